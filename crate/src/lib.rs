@@ -1,0 +1,43 @@
+//! Bandwright core: the exact AC behaviour of passive (and op-amp) filter circuits.
+//!
+//! This crate is pure: it does no file, clock, environment or console access, draws nothing and
+//! knows nothing of the command line or the browser. Adapters (the `bandwright` CLI and the web
+//! bindings) parse and print; the plot layer draws.
+//!
+//! # Conventions
+//! - All values are `f64` in SI units: Ω, S, F, H, Hz, s, V, A, W. Angular frequency ω is in
+//!   rad/s and complex values are [`num_complex::Complex64`]. Engineering notation ("4k7",
+//!   "100n") is parsed and formatted only at the edges, by [`notation`].
+//! - Ground is node `0` (also written `gnd`). Phasors are rms and use e^{jωt}; s = jω.
+//! - dB = 20·log10|H|. Phase is arg H in degrees, unwrapped along a sweep (see [`response`]).
+//!   Group delay τ = −dφ/dω is computed exactly from the differentiated MNA system.
+//! - The transfer function H = V(output)/EMF of the driving source, with every other independent
+//!   source set to zero.
+//! - Errors are one enum per area, carry the offending values, and say what to do. A sweep never
+//!   fails as a whole: a frequency that cannot be solved is recorded as such.
+//!
+//! # Reading order
+//! [`notation`] → [`circuit`] → [`lu`] → [`mna`] → [`sweep`] → [`response`] → [`measure`] →
+//! [`design`].
+#![deny(missing_docs)]
+
+pub mod notation;
+
+pub mod circuit;
+pub mod design;
+pub mod lu;
+pub mod measure;
+pub mod mna;
+pub mod response;
+pub mod sweep;
+
+pub use circuit::{Circuit, CircuitBuilder, CircuitError, Element, ElementKind, Gain, Node};
+pub use design::{parse_design, Design, DesignError, Load, Part, Source};
+pub use measure::{
+    attenuation_db_at, gain_db_at, measure, Corner, Edge, Extremum, GainReference, MeasureError, Measurements,
+    ReferenceKind,
+};
+pub use mna::{AcSystem, Detail, ElementState, Probe, SolveError, Solution};
+pub use notation::{format_quantity, format_value, parse_value, ParseError, Quantity};
+pub use response::Response;
+pub use sweep::{sweep, FrequencyGrid, GridError, Spacing};

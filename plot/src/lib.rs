@@ -1,0 +1,48 @@
+//! Bandwright plot layer: Bode-style charts drawn onto any plotters `DrawingBackend`.
+//!
+//! A chart is a stack of panels (magnitude, phase, group delay, |Z|, impedance phase) that
+//! share one log-frequency x axis. [`draw_panels`] draws them onto a plotters
+//! `DrawingArea`, which may be a browser canvas, an SVG or bitmap file written by the CLI, or
+//! a mock backend in tests, and returns a [`PanelLayout`] that maps pointer pixels back to
+//! frequency and value.
+//!
+//! Invariants: this crate takes plain slices of numbers, not circuit types, so it does not
+//! depend on the Bandwright core; it opens no files, starts no threads and reads no clock,
+//! so it builds for `wasm32-unknown-unknown` as it is.
+//!
+//! Conventions: frequencies in Hz, magnitude in dB (20·log10|H|), phase in degrees (drawn as
+//! given; unwrapping is the caller's job), group delay in seconds, |Z| in ohms on a log axis.
+//! A `None` value is a point that could not be solved and breaks the curve. Curves are
+//! clipped at the axis ranges, never flattened onto the border.
+
+#![deny(missing_docs)]
+
+// Reading order: what is plotted, the pure axis and curve math, then drawing.
+pub mod quantity;
+
+pub mod axis;
+
+pub mod range;
+
+pub mod clip;
+
+pub mod theme;
+
+pub mod layout;
+
+pub mod error;
+
+pub mod chart;
+
+mod coord;
+
+pub use axis::{
+    format_engineering, format_frequency_label, format_plain, nice_frequency_ticks, nice_linear_ticks, nice_log_ticks,
+};
+pub use chart::{draw_panels, ChartOptions, Panel, Series, SeriesStyle};
+pub use clip::split_into_runs;
+pub use error::PlotError;
+pub use layout::{PanelGeometry, PanelLayout};
+pub use quantity::Quantity;
+pub use range::auto_y_range;
+pub use theme::{Theme, ThemeColours};

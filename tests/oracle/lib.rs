@@ -1,0 +1,1 @@
+//! Independent oracles for the reference tests.
