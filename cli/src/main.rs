@@ -1,1 +1,58 @@
-fn main() {}
+//! `bandwright`: the command-line adapter over the Bandwright core and plot layers.
+//!
+//! Arguments are parsed in two steps: clap reads raw text flags ([`args`]), then [`options`]
+//! validates them into typed options with engineering notation parsed. Commands read files, call
+//! the core, and print tables, CSV, JSON or SVG ([`output`], [`svg`]). Errors go to stderr with
+//! exit code 2; nothing here panics on user input.
+
+mod args;
+mod options;
+mod output;
+mod svg;
+
+use anyhow::{Context, Result};
+use clap::Parser;
+use std::process::ExitCode;
+
+fn main() -> ExitCode {
+    let cli = args::Cli::parse();
+    match run(cli) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(error) => {
+            eprintln!("error: {error:#}");
+            ExitCode::from(2)
+        }
+    }
+}
+
+fn run(cli: args::Cli) -> Result<()> {
+    match cli.command {
+        args::Command::Sweep(raw) => {
+            let options = options::SweepOptions::from_args(raw)?;
+            let design = read_design(&options.design)?;
+            let analysis = output::Analysis::run(&design, &options.grid)?;
+            if let Some(path) = &options.svg {
+                svg::write_bode(path, &design.name, &analysis.response)
+                    .with_context(|| format!("cannot write the plot to {}", path.display()))?;
+            }
+            print!("{}", output::render_sweep(&analysis, options.format));
+            Ok(())
+        }
+        args::Command::Info(raw) => {
+            let options = options::InfoOptions::from_args(raw)?;
+            let design = read_design(&options.design)?;
+            let analysis = output::Analysis::run(&design, &options.grid)?;
+            print!("{}", output::render_info(&design, &analysis, &options)?);
+            Ok(())
+        }
+        args::Command::Cautions => {
+            print!("{}", output::render_cautions());
+            Ok(())
+        }
+    }
+}
+
+fn read_design(path: &std::path::Path) -> Result<bandwright::Design> {
+    let text = std::fs::read_to_string(path).with_context(|| format!("cannot read design file {}", path.display()))?;
+    bandwright::parse_design(&text).with_context(|| format!("{}", path.display()))
+}

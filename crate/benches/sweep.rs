@@ -87,9 +87,21 @@ fn main() {
             h.im
         );
     } else {
-        println!("ladder7_sweep: {POINTS} points, {} unknowns, band {:?}, median of {REPEATS}", system.n_unknowns(), system.bandwidth());
-        println!("  core (banded LU + exact derivative): {:9.3} ms/sweep {:8.1} ns/point", core * 1e3, core / POINTS as f64 * 1e9);
-        println!("  nalgebra dense LU, same matrices:    {:9.3} ms/sweep {:8.1} ns/point", dense * 1e3, dense / POINTS as f64 * 1e9);
+        println!(
+            "ladder7_sweep: {POINTS} points, {} unknowns, band {:?}, median of {REPEATS}",
+            system.n_unknowns(),
+            system.bandwidth()
+        );
+        println!(
+            "  core (banded LU + exact derivative): {:9.3} ms/sweep {:8.1} ns/point",
+            core * 1e3,
+            core / POINTS as f64 * 1e9
+        );
+        println!(
+            "  nalgebra dense LU, same matrices:    {:9.3} ms/sweep {:8.1} ns/point",
+            dense * 1e3,
+            dense / POINTS as f64 * 1e9
+        );
         println!("  ratio nalgebra/core: {:.1}x", dense / core);
     }
 }

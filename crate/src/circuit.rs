@@ -384,7 +384,15 @@ impl CircuitBuilder {
     }
 
     /// Adds a voltage-controlled voltage source: V(a) − V(b) = gain · (V(control_pos) − V(control_neg)).
-    pub fn vcvs(&mut self, reference: &str, a: &str, b: &str, control_pos: &str, control_neg: &str, gain: Gain) -> &mut Self {
+    pub fn vcvs(
+        &mut self,
+        reference: &str,
+        a: &str,
+        b: &str,
+        control_pos: &str,
+        control_neg: &str,
+        gain: Gain,
+    ) -> &mut Self {
         if control_pos.is_empty() || control_neg.is_empty() {
             self.problems.push(CircuitError::EmptyNodeName { reference: reference.to_string() });
         }
@@ -457,10 +465,12 @@ fn validate_values(reference: &str, kind: &ElementKind) -> Result<(), CircuitErr
     const NON_NEGATIVE: &str = "a finite value ≥ 0";
     const NON_ZERO: &str = "a finite, non-zero value";
     let bad = |what, value, allowed| CircuitError::BadValue { reference: reference.to_string(), what, value, allowed };
-    let positive = |what, value: f64| if value.is_finite() && value > 0.0 { Ok(()) } else { Err(bad(what, value, POSITIVE)) };
+    let positive =
+        |what, value: f64| if value.is_finite() && value > 0.0 { Ok(()) } else { Err(bad(what, value, POSITIVE)) };
     let non_negative =
         |what, value: f64| if value.is_finite() && value >= 0.0 { Ok(()) } else { Err(bad(what, value, NON_NEGATIVE)) };
-    let non_zero = |what, value: f64| if value.is_finite() && value != 0.0 { Ok(()) } else { Err(bad(what, value, NON_ZERO)) };
+    let non_zero =
+        |what, value: f64| if value.is_finite() && value != 0.0 { Ok(()) } else { Err(bad(what, value, NON_ZERO)) };
     match *kind {
         ElementKind::Resistor { resistance } => positive("resistance", resistance),
         ElementKind::Capacitor { capacitance, esr } => {
@@ -549,11 +559,8 @@ fn check_topology(circuit: &Circuit) -> Result<(), CircuitError> {
         // Report the first island only, completely.
         let root = all.find(island_nodes[0]);
         let nodes: Vec<usize> = island_nodes.iter().copied().filter(|&i| all.find(i) == root).collect();
-        let references = elements
-            .iter()
-            .filter(|e| all.find(e.nodes.0 .0) == root)
-            .map(|e| e.reference.clone())
-            .collect();
+        let references =
+            elements.iter().filter(|e| all.find(e.nodes.0 .0) == root).map(|e| e.reference.clone()).collect();
         return Err(CircuitError::Island {
             references,
             nodes: nodes.iter().map(|&i| circuit.node_names[i].clone()).collect(),
@@ -587,7 +594,9 @@ mod tests {
 
     fn rc() -> CircuitBuilder {
         let mut b = CircuitBuilder::new();
-        b.voltage_source("V1", "in", "0", 1.0, 50.0).resistor("R1", "in", "out", 1e3).capacitor("C1", "out", "gnd", 1e-9);
+        b.voltage_source("V1", "in", "0", 1.0, 50.0)
+            .resistor("R1", "in", "out", 1e3)
+            .capacitor("C1", "out", "gnd", 1e-9);
         b
     }
 
@@ -635,11 +644,15 @@ mod tests {
     #[test]
     fn loop_of_ideal_sources_is_rejected() {
         let mut b = CircuitBuilder::new();
-        b.voltage_source("V1", "a", "0", 1.0, 0.0).voltage_source("V2", "a", "0", 2.0, 0.0).resistor("R1", "a", "0", 1.0);
+        b.voltage_source("V1", "a", "0", 1.0, 0.0)
+            .voltage_source("V2", "a", "0", 2.0, 0.0)
+            .resistor("R1", "a", "0", 1.0);
         expect_error(&b, "V2 closes a loop");
         // With a series resistance the same pair is fine.
         let mut b = CircuitBuilder::new();
-        b.voltage_source("V1", "a", "0", 1.0, 0.0).voltage_source("V2", "a", "0", 2.0, 1.0).resistor("R1", "a", "0", 1.0);
+        b.voltage_source("V1", "a", "0", 1.0, 0.0)
+            .voltage_source("V2", "a", "0", 2.0, 1.0)
+            .resistor("R1", "a", "0", 1.0);
         assert!(b.build().is_ok());
     }
 
@@ -654,7 +667,9 @@ mod tests {
     #[test]
     fn series_capacitors_node_is_accepted() {
         let mut b = CircuitBuilder::new();
-        b.voltage_source("V1", "in", "0", 1.0, 0.0).capacitor("C1", "in", "mid", 1e-9).capacitor("C2", "mid", "0", 1e-9);
+        b.voltage_source("V1", "in", "0", 1.0, 0.0)
+            .capacitor("C1", "in", "mid", 1e-9)
+            .capacitor("C2", "mid", "0", 1e-9);
         assert!(b.build().is_ok());
     }
 

@@ -364,7 +364,8 @@ impl Design {
 /// [`DesignError`]: bad JSON with its line and column, a wrong format or version, an unknown
 /// field or kind, an unreadable value, or an invalid circuit.
 pub fn parse_design(text: &str) -> Result<Design, DesignError> {
-    let json_error = |e: serde_json::Error| DesignError::Json { line: e.line(), column: e.column(), message: e.to_string() };
+    let json_error =
+        |e: serde_json::Error| DesignError::Json { line: e.line(), column: e.column(), message: e.to_string() };
     let value: serde_json::Value = serde_json::from_str(text).map_err(json_error)?;
     let format = value.get("format");
     match format.and_then(|f| f.as_str()) {
@@ -489,7 +490,10 @@ mod tests {
         check_error(r#"{"format": "other", "version": 1}"#, "its format is \"other\"");
         check_error(&EXAMPLE.replace("\"version\": 1", "\"version\": 2"), "version 2 cannot be read");
         check_error(&EXAMPLE.replace("\"resistor\"", "\"resistr\""), "unknown variant `resistr`");
-        check_error(&EXAMPLE.replace("\"name\": \"example\"", "\"name\": \"x\", \"colour\": 1"), "unknown field `colour`");
+        check_error(
+            &EXAMPLE.replace("\"name\": \"example\"", "\"name\": \"x\", \"colour\": 1"),
+            "unknown field `colour`",
+        );
         check_error(&EXAMPLE.replace("\"1k\"", "\"4k7k\""), "\"4k7k\"");
         check_error(&EXAMPLE.replace("\"1k\"", "\"1nF\""), "1nF");
         check_error(&EXAMPLE.replace("1e-7", "-1e-7"), "part C1 has capacitance -0.0000001");
@@ -497,7 +501,10 @@ mod tests {
         check_error(&EXAMPLE.replace("\"R1\"", "\"source\""), "reference source is reserved");
         check_error(&EXAMPLE.replace("\"ref\": \"C1\"", "\"ref\": \"R1\""), "reference R1 is used twice");
         check_error(
-            &EXAMPLE.replace("\n     ]}", ", {\"ref\": \"R9\", \"kind\": \"resistor\", \"value\": 5, \"nodes\": [\"x\", \"y\"]}]}"),
+            &EXAMPLE.replace(
+                "\n     ]}",
+                ", {\"ref\": \"R9\", \"kind\": \"resistor\", \"value\": 5, \"nodes\": [\"x\", \"y\"]}]}",
+            ),
             "parts R9 (nodes x, y) are not connected to ground",
         );
     }

@@ -18,7 +18,7 @@
 //!
 //! # Reading order
 //! [`notation`] → [`circuit`] → [`lu`] → [`mna`] → [`sweep`] → [`response`] → [`measure`] →
-//! [`design`].
+//! [`design`], and [`cautions`] for the safety text every adapter shows.
 #![deny(missing_docs)]
 
 pub mod notation;
@@ -31,13 +31,15 @@ pub mod mna;
 pub mod response;
 pub mod sweep;
 
+pub mod cautions;
+
 pub use circuit::{Circuit, CircuitBuilder, CircuitError, Element, ElementKind, Gain, Node};
 pub use design::{parse_design, Design, DesignError, Load, Part, Source};
 pub use measure::{
     attenuation_db_at, gain_db_at, measure, Corner, Edge, Extremum, GainReference, MeasureError, Measurements,
     ReferenceKind,
 };
-pub use mna::{AcSystem, Detail, ElementState, Probe, SolveError, Solution};
+pub use mna::{AcSystem, Detail, ElementState, Probe, Solution, SolveError};
 pub use notation::{format_quantity, format_value, parse_value, ParseError, Quantity};
 pub use response::Response;
 pub use sweep::{sweep, FrequencyGrid, GridError, Spacing};

@@ -127,8 +127,7 @@ impl Lu {
                     best_mag = mag;
                 }
             }
-            // Written so that NaN fails the test too.
-            if !(best_mag >= SINGULAR_PIVOT) {
+            if best_mag.is_nan() || best_mag < SINGULAR_PIVOT {
                 return Err(Singular { column: k });
             }
             self.pivot[k] = best;

@@ -154,7 +154,10 @@ impl Curve {
         let (u1, y1, m1) = self.points[i + 1];
         let h = u1 - u0;
         let (t2, t3) = (t * t, t * t * t);
-        (2.0 * t3 - 3.0 * t2 + 1.0) * y0 + (t3 - 2.0 * t2 + t) * h * m0 + (-2.0 * t3 + 3.0 * t2) * y1 + (t3 - t2) * h * m1
+        (2.0 * t3 - 3.0 * t2 + 1.0) * y0
+            + (t3 - 2.0 * t2 + t) * h * m0
+            + (-2.0 * t3 + 3.0 * t2) * y1
+            + (t3 - t2) * h * m1
     }
 
     /// d/dt of the Hermite cubic on segment `i`.
@@ -163,7 +166,10 @@ impl Curve {
         let (u1, y1, m1) = self.points[i + 1];
         let h = u1 - u0;
         let t2 = t * t;
-        (6.0 * t2 - 6.0 * t) * y0 + (3.0 * t2 - 4.0 * t + 1.0) * h * m0 + (-6.0 * t2 + 6.0 * t) * y1 + (3.0 * t2 - 2.0 * t) * h * m1
+        (6.0 * t2 - 6.0 * t) * y0
+            + (3.0 * t2 - 4.0 * t + 1.0) * h * m0
+            + (-6.0 * t2 + 6.0 * t) * y1
+            + (3.0 * t2 - 2.0 * t) * h * m1
     }
 
     /// Bisection for g(t) = 0 on [0, 1] given a sign change.

@@ -241,12 +241,13 @@ impl AcSystem {
             let a = node_provisional(element.nodes.0);
             let b = node_provisional(element.nodes.1);
             let is_stimulus = index == probe.stimulus;
-            let admittance = |value: StampValue, push: &mut dyn FnMut(Option<usize>, Option<usize>, f64, StampValue)| {
-                push(a, a, 1.0, value);
-                push(b, b, 1.0, value);
-                push(a, b, -1.0, value);
-                push(b, a, -1.0, value);
-            };
+            let admittance =
+                |value: StampValue, push: &mut dyn FnMut(Option<usize>, Option<usize>, f64, StampValue)| {
+                    push(a, a, 1.0, value);
+                    push(b, b, 1.0, value);
+                    push(a, b, -1.0, value);
+                    push(b, a, -1.0, value);
+                };
             let incidence = |k: usize, push: &mut dyn FnMut(Option<usize>, Option<usize>, f64, StampValue)| {
                 push(a, Some(k), 1.0, StampValue::Real(1.0));
                 push(b, Some(k), -1.0, StampValue::Real(1.0));
@@ -394,7 +395,7 @@ impl AcSystem {
             let at = stamp.row * n + stamp.col;
             match self.values[stamp.value] {
                 StampValue::Real(value) => g[at] += stamp.sign * value,
-                StampValue::Capacitor { capacitance, esr } if esr == 0.0 => c[at] += stamp.sign * capacitance,
+                StampValue::Capacitor { capacitance, esr: 0.0 } => c[at] += stamp.sign * capacitance,
                 StampValue::InductorBranch { inductance, dcr } => {
                     g[at] -= stamp.sign * dcr;
                     c[at] -= stamp.sign * inductance;
@@ -533,7 +534,9 @@ impl AcSystem {
         let is_stimulus = index == self.probe.stimulus;
         let current = match element.kind {
             ElementKind::Resistor { resistance } => voltage / resistance,
-            ElementKind::Capacitor { capacitance, esr } => voltage * StampValue::Capacitor { capacitance, esr }.at(omega).0,
+            ElementKind::Capacitor { capacitance, esr } => {
+                voltage * StampValue::Capacitor { capacitance, esr }.at(omega).0
+            }
             ElementKind::Inductor { .. } | ElementKind::Vcvs { .. } => branch(),
             ElementKind::VoltageSource { emf, series_resistance } => {
                 if series_resistance > 0.0 {

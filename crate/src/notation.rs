@@ -171,14 +171,10 @@ impl fmt::Display for ParseError {
         write!(formatter, "cannot read {} as a value: ", quote(&self.text))?;
         match &self.problem {
             ParseProblem::Empty => write!(formatter, "the text is empty")?,
-            ParseProblem::NoNumber => write!(
-                formatter,
-                "it does not start with a number (nan and inf are not values)"
-            )?,
-            ParseProblem::BadExponent => write!(
-                formatter,
-                "the exponent after \"e\" needs at least one digit"
-            )?,
+            ParseProblem::NoNumber => {
+                write!(formatter, "it does not start with a number (nan and inf are not values)")?
+            }
+            ParseProblem::BadExponent => write!(formatter, "the exponent after \"e\" needs at least one digit")?,
             ParseProblem::UnknownSuffix(suffix) => {
                 write!(
                     formatter,
@@ -187,15 +183,10 @@ impl fmt::Display for ParseError {
                     quote(suffix)
                 )?;
                 if suffix.starts_with(',') {
-                    write!(
-                        formatter,
-                        "; use a point, not a comma, as the decimal marker"
-                    )?;
+                    write!(formatter, "; use a point, not a comma, as the decimal marker")?;
                 }
             }
-            ParseProblem::DoubleMultiplier => {
-                write!(formatter, "only one SI prefix or RKM letter is allowed")?
-            }
+            ParseProblem::DoubleMultiplier => write!(formatter, "only one SI prefix or RKM letter is allowed")?,
             ParseProblem::WrongUnit { found, expected } => {
                 let found_text = match unit_quantity(found) {
                     Some(unit) => format!("{} is a unit of {}", quote(found), unit.name()),
@@ -206,10 +197,9 @@ impl fmt::Display for ParseError {
                         formatter,
                         "{found_text}, but a ratio takes no unit; leave the unit out, e.g. 0.5 or 500m"
                     ),
-                    Quantity::Any => write!(
-                        formatter,
-                        "{found_text}; write one of Ω F H Hz s V A W or leave the unit out"
-                    ),
+                    Quantity::Any => {
+                        write!(formatter, "{found_text}; write one of Ω F H Hz s V A W or leave the unit out")
+                    }
                     _ => write!(
                         formatter,
                         "{found_text}, but a {} is expected; write it in {} or leave the unit out, \
@@ -220,10 +210,7 @@ impl fmt::Display for ParseError {
                     ),
                 };
             }
-            ParseProblem::NotFinite => write!(
-                formatter,
-                "the number is too large (the limit is about 1.8e308)"
-            )?,
+            ParseProblem::NotFinite => write!(formatter, "the number is too large (the limit is about 1.8e308)")?,
         }
         write!(formatter, "; write e.g. 4k7, 4.7k, 4700, 4.7e3 or 4.7 kΩ")
     }
@@ -242,10 +229,7 @@ impl std::error::Error for ParseError {}
 /// no number, has a bad exponent, an unknown suffix, two multipliers, a unit that does not fit
 /// `quantity`, or a value too large for `f64`. Never panics.
 pub fn parse_value(text: &str, quantity: Quantity) -> Result<f64, ParseError> {
-    read(text, quantity).map_err(|problem| ParseError {
-        text: text.to_string(),
-        problem,
-    })
+    read(text, quantity).map_err(|problem| ParseError { text: text.to_string(), problem })
 }
 
 /// Formats a value with `significant_digits` digits and an SI prefix, without a unit.
@@ -289,11 +273,7 @@ pub fn format_quantity(value: f64, quantity: Quantity, significant_digits: usize
 /// returned instead. `significant_digits` is clamped to 1..=17 as in [`format_value`].
 pub fn format_rkm(value: f64, significant_digits: usize) -> String {
     let Some(rounded) = Rounded::new(value, significant_digits) else {
-        return if value == 0.0 {
-            "0R".to_string()
-        } else {
-            format_value(value, significant_digits)
-        };
+        return if value == 0.0 { "0R".to_string() } else { format_value(value, significant_digits) };
     };
     let sign = if rounded.negative { "-" } else { "" };
     if rounded.exponent == -1 {
@@ -386,10 +366,7 @@ fn read(text: &str, quantity: Quantity) -> Result<f64, ParseProblem> {
         return Err(ParseProblem::Empty);
     }
     let chars: Vec<char> = trimmed.chars().collect();
-    let mut scanner = Scanner {
-        chars: &chars,
-        position: 0,
-    };
+    let mut scanner = Scanner { chars: &chars, position: 0 };
 
     let negative = match scanner.peek() {
         Some('-' | '−') => {
@@ -443,14 +420,9 @@ fn read(text: &str, quantity: Quantity) -> Result<f64, ParseProblem> {
             if digits.is_empty() {
                 return Err(ParseProblem::BadExponent);
             }
-            let magnitude = digits.bytes().fold(0_i64, |total, digit| {
-                (total * 10 + i64::from(digit - b'0')).min(EXPONENT_LIMIT)
-            });
-            exponent = if exponent_negative {
-                -magnitude
-            } else {
-                magnitude
-            };
+            let magnitude =
+                digits.bytes().fold(0_i64, |total, digit| (total * 10 + i64::from(digit - b'0')).min(EXPONENT_LIMIT));
+            exponent = if exponent_negative { -magnitude } else { magnitude };
         }
     }
 
@@ -461,10 +433,7 @@ fn read(text: &str, quantity: Quantity) -> Result<f64, ParseProblem> {
 
     if let Some((symbol, unit_of)) = suffix.unit {
         if !quantity.admits(unit_of) {
-            return Err(ParseProblem::WrongUnit {
-                found: symbol.to_string(),
-                expected: quantity,
-            });
+            return Err(ParseProblem::WrongUnit { found: symbol.to_string(), expected: quantity });
         }
     }
 
@@ -500,10 +469,7 @@ fn read_suffix(suffix: &str, multiplier_used: bool) -> Result<Suffix<'_>, ParseP
             if n_multipliers > 1 {
                 return Err(ParseProblem::DoubleMultiplier);
             }
-            return Ok(Suffix {
-                exponent,
-                unit: Some((rest, unit_of)),
-            });
+            return Ok(Suffix { exponent, unit: Some((rest, unit_of)) });
         }
         let mut chars = rest.chars();
         let letter_exponent = chars
@@ -517,10 +483,7 @@ fn read_suffix(suffix: &str, multiplier_used: bool) -> Result<Suffix<'_>, ParseP
     if n_multipliers > 1 {
         return Err(ParseProblem::DoubleMultiplier);
     }
-    Ok(Suffix {
-        exponent,
-        unit: None,
-    })
+    Ok(Suffix { exponent, unit: None })
 }
 
 /// What [`read_suffix`] found after the number.
@@ -543,9 +506,7 @@ impl Scanner<'_> {
     }
 
     fn peek_at(&self, offset: usize) -> Option<char> {
-        self.chars
-            .get(self.position.saturating_add(offset))
-            .copied()
+        self.chars.get(self.position.saturating_add(offset)).copied()
     }
 
     fn take_digits(&mut self) -> String {
@@ -656,22 +617,10 @@ mod tests {
     use super::*;
     use proptest::prelude::*;
 
-    use Quantity::{
-        Any, Capacitance, Current, Frequency, Inductance, Power, Ratio, Resistance, Time, Voltage,
-    };
+    use Quantity::{Any, Capacitance, Current, Frequency, Inductance, Power, Ratio, Resistance, Time, Voltage};
 
-    const ALL_QUANTITIES: [Quantity; 10] = [
-        Resistance,
-        Capacitance,
-        Inductance,
-        Frequency,
-        Time,
-        Voltage,
-        Current,
-        Power,
-        Ratio,
-        Any,
-    ];
+    const ALL_QUANTITIES: [Quantity; 10] =
+        [Resistance, Capacitance, Inductance, Frequency, Time, Voltage, Current, Power, Ratio, Any];
 
     /// Relative tolerance for parsed values. The parser hands the whole decimal (prefix folded
     /// into the exponent) to Rust's correctly rounded `f64` conversion, so the result should be
@@ -804,9 +753,7 @@ mod tests {
 
     #[test]
     fn prefix_factor_refuses_other_letters() {
-        for letter in [
-            'R', 'r', 'F', 'H', 'E', 'e', 'a', 'P', 'N', 'U', 'g', 't', 'Ω', '1',
-        ] {
+        for letter in ['R', 'r', 'F', 'H', 'E', 'e', 'a', 'P', 'N', 'U', 'g', 't', 'Ω', '1'] {
             assert_eq!(prefix_factor(letter), None, "{letter:?}");
         }
     }
@@ -979,10 +926,7 @@ mod tests {
 
     #[test]
     fn error_no_number() {
-        for text in [
-            "abc", "nan", "NaN", "inf", "-inf", "infinity", "k", "R", "Ω", "-", ".", "+.e3", "e3",
-            "kΩ",
-        ] {
+        for text in ["abc", "nan", "NaN", "inf", "-inf", "infinity", "k", "R", "Ω", "-", ".", "+.e3", "e3", "kΩ"] {
             check_error(text, Any, ParseProblem::NoNumber);
         }
     }
@@ -1011,11 +955,7 @@ mod tests {
         check_error("1 rad", Any, ParseProblem::UnknownSuffix("rad".into()));
         check_error("4F7", Capacitance, ParseProblem::UnknownSuffix("F7".into()));
         check_error("47L", Resistance, ParseProblem::UnknownSuffix("L".into()));
-        check_error(
-            "1kΩx",
-            Resistance,
-            ParseProblem::UnknownSuffix("kΩx".into()),
-        );
+        check_error("1kΩx", Resistance, ParseProblem::UnknownSuffix("kΩx".into()));
         check_error("0x10", Any, ParseProblem::UnknownSuffix("x10".into()));
     }
 
@@ -1028,9 +968,7 @@ mod tests {
 
     #[test]
     fn error_double_multiplier() {
-        for text in [
-            "4k7k", "1kk", "1kMΩ", "4k7 kΩ", "1 k k", "1kR", "4R7k", "1kms", "4k7kk",
-        ] {
+        for text in ["4k7k", "1kk", "1kMΩ", "4k7 kΩ", "1 k k", "1kR", "4R7k", "1kms", "4k7kk"] {
             check_error(text, Any, ParseProblem::DoubleMultiplier);
         }
     }
@@ -1047,38 +985,10 @@ mod tests {
 
     #[test]
     fn error_wrong_unit() {
-        check_error(
-            "100nF",
-            Resistance,
-            ParseProblem::WrongUnit {
-                found: "F".into(),
-                expected: Resistance,
-            },
-        );
-        check_error(
-            "1 kHz",
-            Time,
-            ParseProblem::WrongUnit {
-                found: "Hz".into(),
-                expected: Time,
-            },
-        );
-        check_error(
-            "4.7kohm",
-            Capacitance,
-            ParseProblem::WrongUnit {
-                found: "ohm".into(),
-                expected: Capacitance,
-            },
-        );
-        check_error(
-            "4n7F",
-            Inductance,
-            ParseProblem::WrongUnit {
-                found: "F".into(),
-                expected: Inductance,
-            },
-        );
+        check_error("100nF", Resistance, ParseProblem::WrongUnit { found: "F".into(), expected: Resistance });
+        check_error("1 kHz", Time, ParseProblem::WrongUnit { found: "Hz".into(), expected: Time });
+        check_error("4.7kohm", Capacitance, ParseProblem::WrongUnit { found: "ohm".into(), expected: Capacitance });
+        check_error("4n7F", Inductance, ParseProblem::WrongUnit { found: "F".into(), expected: Inductance });
     }
 
     #[test]
@@ -1104,10 +1014,7 @@ mod tests {
         }
         for quantity in ALL_QUANTITIES {
             for text in quantity.example().split(" or ") {
-                assert!(
-                    parse_value(text, quantity).is_ok(),
-                    "{text:?} as {quantity:?}"
-                );
+                assert!(parse_value(text, quantity).is_ok(), "{text:?} as {quantity:?}");
             }
         }
     }
@@ -1115,14 +1022,7 @@ mod tests {
     #[test]
     fn error_ratio_takes_no_unit() {
         for (text, unit) in [("1 V", "V"), ("10kΩ", "Ω"), ("1s", "s")] {
-            check_error(
-                text,
-                Ratio,
-                ParseProblem::WrongUnit {
-                    found: unit.into(),
-                    expected: Ratio,
-                },
-            );
+            check_error(text, Ratio, ParseProblem::WrongUnit { found: unit.into(), expected: Ratio });
         }
         let message = parse_value("1 V", Ratio).unwrap_err().to_string();
         assert!(message.contains("a ratio takes no unit"), "{message}");
@@ -1130,21 +1030,10 @@ mod tests {
 
     #[test]
     fn error_not_finite() {
-        for text in [
-            "1e999",
-            "-1e999",
-            "1e309",
-            "1.8e308",
-            "1e99999999999999999999999",
-            "1e306T",
-        ] {
+        for text in ["1e999", "-1e999", "1e309", "1.8e308", "1e99999999999999999999999", "1e306T"] {
             check_error(text, Any, ParseProblem::NotFinite);
         }
-        check_error(
-            &format!("1{}", "0".repeat(400)),
-            Any,
-            ParseProblem::NotFinite,
-        );
+        check_error(&format!("1{}", "0".repeat(400)), Any, ParseProblem::NotFinite);
         check("1.7e308", Any, 1.7e308);
         check("1000T", Any, 1e15);
     }
@@ -1159,9 +1048,7 @@ mod tests {
     #[test]
     fn error_message_escapes_and_shortens_text() {
         let error = parse_value("1\"q", Any).unwrap_err();
-        assert!(error
-            .to_string()
-            .starts_with("cannot read \"1\\\"q\" as a value"));
+        assert!(error.to_string().starts_with("cannot read \"1\\\"q\" as a value"));
         let long = "x".repeat(10_000);
         let message = parse_value(&long, Any).unwrap_err().to_string();
         assert!(message.len() < 300, "{} bytes", message.len());
@@ -1180,16 +1067,8 @@ mod tests {
         check_error(&digits, Any, ParseProblem::NotFinite);
         check(&format!("0.{digits}"), Any, 0.7777777777777778);
         check_error(&"k".repeat(100_000), Any, ParseProblem::NoNumber);
-        check_error(
-            &format!("1{}", "k".repeat(100_000)),
-            Any,
-            ParseProblem::DoubleMultiplier,
-        );
-        check_error(
-            &format!("1{}", "Ω".repeat(100_000)),
-            Any,
-            ParseProblem::UnknownSuffix("Ω".repeat(100_000)),
-        );
+        check_error(&format!("1{}", "k".repeat(100_000)), Any, ParseProblem::DoubleMultiplier);
+        check_error(&format!("1{}", "Ω".repeat(100_000)), Any, ParseProblem::UnknownSuffix("Ω".repeat(100_000)));
         check_error(&format!("1e{digits}"), Any, ParseProblem::NotFinite);
         check(&format!("1e-{digits}"), Any, 0.0);
     }
@@ -1297,14 +1176,7 @@ mod tests {
 
     #[test]
     fn format_rkm_output_reads_back() {
-        for (value, digits) in [
-            (0.47, 2),
-            (4700.0, 2),
-            (1e-7, 2),
-            (0.0, 2),
-            (-2.2, 2),
-            (4.99e3, 3),
-        ] {
+        for (value, digits) in [(0.47, 2), (4700.0, 2), (1e-7, 2), (0.0, 2), (-2.2, 2), (4.99e3, 3)] {
             let text = format_rkm(value, digits);
             check(&text, Any, value);
         }
@@ -1335,9 +1207,9 @@ mod tests {
     /// Text built from pieces the parser reacts to, so that random inputs reach its deep paths.
     fn tricky_text() -> impl Strategy<Value = String> {
         let pieces = vec![
-            "0", "1", "4", "7", "9", ".", "e", "E", "+", "-", "−", " ", "\u{a0}", "k", "K", "m",
-            "M", "µ", "μ", "u", "n", "p", "f", "G", "T", "R", "r", "\u{3a9}", "\u{2126}", "ohm",
-            "F", "H", "Hz", "s", "V", "A", "W", "q", ",", "é", "€", "💡", "\u{301}", "\0",
+            "0", "1", "4", "7", "9", ".", "e", "E", "+", "-", "−", " ", "\u{a0}", "k", "K", "m", "M", "µ", "μ", "u",
+            "n", "p", "f", "G", "T", "R", "r", "\u{3a9}", "\u{2126}", "ohm", "F", "H", "Hz", "s", "V", "A", "W", "q",
+            ",", "é", "€", "💡", "\u{301}", "\0",
         ];
         prop::collection::vec(prop::sample::select(pieces), 0..12).prop_map(|parts| parts.concat())
     }

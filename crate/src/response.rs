@@ -13,7 +13,7 @@
 //! than the delay at either end implies, so a resonance sampled at its peak cannot throw the
 //! branch off, while a long pure delay between coarse points is still followed.
 
-use crate::mna::{SolveError, Solution};
+use crate::mna::{Solution, SolveError};
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
@@ -185,10 +185,8 @@ mod tests {
     #[test]
     fn zero_transfer_gives_none_not_nan() {
         let zero = Complex64::new(0.0, 0.0);
-        let response = Response::new(
-            vec![1.0, 2.0],
-            vec![point(1.0, zero, zero), Err(SolveError::Singular { f_hz: 2.0 })],
-        );
+        let response =
+            Response::new(vec![1.0, 2.0], vec![point(1.0, zero, zero), Err(SolveError::Singular { f_hz: 2.0 })]);
         assert_eq!(response.magnitude_db(), vec![None, None]);
         assert_eq!(response.phase_deg(), vec![None, None]);
         assert_eq!(response.group_delay_s(), vec![None, None]);

@@ -150,6 +150,54 @@ impl FrequencyGrid {
     }
 }
 
+/// A default sweep range for `circuit`: two decades beyond the lowest and highest of its
+/// characteristic frequencies 1/(2π·RC), R/(2π·L) and 1/(2π·√(LC)) over every pair of parts,
+/// limited to ten decades and to 1 mHz … 100 GHz. Falls back to 10 Hz … 100 kHz (the audio band
+/// and beyond, common practice) for a circuit with no reactive part.
+pub fn suggested_range(circuit: &crate::circuit::Circuit) -> (f64, f64) {
+    use crate::circuit::ElementKind;
+    let (mut r, mut c, mut l) = (Vec::new(), Vec::new(), Vec::new());
+    for element in circuit.elements() {
+        match element.kind {
+            ElementKind::Resistor { resistance } => r.push(resistance),
+            ElementKind::VoltageSource { series_resistance, .. } if series_resistance > 0.0 => {
+                r.push(series_resistance)
+            }
+            ElementKind::Capacitor { capacitance, .. } => c.push(capacitance),
+            ElementKind::Inductor { inductance, .. } => l.push(inductance),
+            _ => {}
+        }
+    }
+    let two_pi = 2.0 * std::f64::consts::PI;
+    let mut f: Vec<f64> = Vec::new();
+    for &cap in &c {
+        f.extend(r.iter().map(|&res| 1.0 / (two_pi * res * cap)));
+        f.extend(l.iter().map(|&ind| 1.0 / (two_pi * (ind * cap).sqrt())));
+    }
+    for &ind in &l {
+        f.extend(r.iter().map(|&res| res / (two_pi * ind)));
+    }
+    f.retain(|x| x.is_finite() && *x > 0.0);
+    if f.is_empty() {
+        return (10.0, 1e5);
+    }
+    let low = f.iter().copied().fold(f64::INFINITY, f64::min);
+    let high = f.iter().copied().fold(0.0, f64::max);
+    let round_down = |x: f64| 10f64.powf(x.log10().floor());
+    let round_up = |x: f64| 10f64.powf(x.log10().ceil());
+    let (mut start, mut stop) = (round_down(low / 100.0).max(1e-3), round_up(high * 100.0).min(1e11));
+    if stop / start > 1e10 {
+        // Keep ten decades centred on the geometric middle of the characteristic frequencies.
+        let middle = (low * high).sqrt();
+        start = round_down(middle / 1e5);
+        stop = start * 1e10;
+    }
+    if stop <= start {
+        stop = start * 1e4;
+    }
+    (start, stop)
+}
+
 /// Solves `system` at every frequency of `grid`.
 pub fn sweep(system: &mut AcSystem, grid: &FrequencyGrid, detail: Detail) -> Response {
     let solutions = grid.frequencies().iter().map(|&f| system.solve_at(f, detail)).collect();
@@ -179,8 +227,19 @@ mod tests {
     }
 
     #[test]
+    fn suggested_range_brackets_the_corner() {
+        let mut b = crate::circuit::CircuitBuilder::new();
+        b.voltage_source("V1", "in", "0", 1.0, 0.0).resistor("R1", "in", "out", 1e3).capacitor("C1", "out", "0", 1e-7);
+        // fc = 1.59 kHz: two decades either side, rounded out to decades.
+        assert_eq!(suggested_range(&b.build().unwrap()), (10.0, 1e6));
+    }
+
+    #[test]
     fn bad_grids_are_named() {
-        assert!(FrequencyGrid::log(0.0, 1.0, Spacing::Points(3)).unwrap_err().to_string().contains("start frequency 0"));
+        assert!(FrequencyGrid::log(0.0, 1.0, Spacing::Points(3))
+            .unwrap_err()
+            .to_string()
+            .contains("start frequency 0"));
         assert!(FrequencyGrid::log(10.0, 1.0, Spacing::Points(3)).unwrap_err().to_string().contains("must be above"));
         assert!(FrequencyGrid::log(1.0, 10.0, Spacing::Points(1)).is_err());
         assert!(FrequencyGrid::log(1.0, 10.0, Spacing::PerDecade(f64::NAN)).is_err());

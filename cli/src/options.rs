@@ -1,0 +1,114 @@
+//! Validated options: the raw text flags of `args` turned into typed values, with engineering
+//! notation parsed and every problem reported with the flag and the text that caused it.
+
+use crate::args::{GridArgs, InfoArgs, InfoFormat, SweepArgs, SweepFormat};
+use anyhow::{bail, Context, Result};
+use bandwright::notation::{parse_value, Quantity};
+use std::path::PathBuf;
+
+/// How the frequency grid is to be made once the circuit is known.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GridRequest {
+    /// Start in Hz, or `None` for the circuit's suggested start.
+    pub from_hz: Option<f64>,
+    /// Stop in Hz, or `None` for the suggested stop.
+    pub to_hz: Option<f64>,
+    /// The spacing.
+    pub spacing: bandwright::Spacing,
+}
+
+/// Options of `sweep`.
+#[derive(Debug, Clone)]
+pub struct SweepOptions {
+    /// The design file.
+    pub design: PathBuf,
+    /// The grid.
+    pub grid: GridRequest,
+    /// Output format.
+    pub format: SweepFormat,
+    /// SVG output path.
+    pub svg: Option<PathBuf>,
+}
+
+/// Options of `info`.
+#[derive(Debug, Clone)]
+pub struct InfoOptions {
+    /// The design file.
+    pub design: PathBuf,
+    /// The grid.
+    pub grid: GridRequest,
+    /// Frequencies for attenuation figures, in Hz.
+    pub at_hz: Vec<f64>,
+    /// Output format.
+    pub format: InfoFormat,
+}
+
+impl SweepOptions {
+    /// Validates the raw flags.
+    pub fn from_args(raw: SweepArgs) -> Result<Self> {
+        Ok(Self {
+            design: raw.design,
+            grid: GridRequest::from_args(&raw.grid, 50.0)?,
+            format: raw.format,
+            svg: raw.svg,
+        })
+    }
+}
+
+impl InfoOptions {
+    /// Validates the raw flags.
+    pub fn from_args(raw: InfoArgs) -> Result<Self> {
+        let at_hz = raw.at.iter().map(|text| frequency("--at", text)).collect::<Result<Vec<_>>>()?;
+        Ok(Self { design: raw.design, grid: GridRequest::from_args(&raw.grid, 200.0)?, at_hz, format: raw.format })
+    }
+}
+
+impl GridRequest {
+    fn from_args(raw: &GridArgs, default_per_decade: f64) -> Result<Self> {
+        let from_hz = raw.from.as_deref().map(|t| frequency("--from", t)).transpose()?;
+        let to_hz = raw.to.as_deref().map(|t| frequency("--to", t)).transpose()?;
+        let spacing = match (&raw.points, &raw.per_decade) {
+            (Some(text), _) => bandwright::Spacing::Points(count("--points", text)?),
+            (None, Some(text)) => {
+                let value = parse_value(text, Quantity::Ratio).with_context(|| "--per-decade".to_string())?;
+                if value.is_nan() || value < 1.0 {
+                    bail!("--per-decade {text}: give at least 1 point per decade");
+                }
+                bandwright::Spacing::PerDecade(value)
+            }
+            (None, None) => bandwright::Spacing::PerDecade(default_per_decade),
+        };
+        Ok(Self { from_hz, to_hz, spacing })
+    }
+
+    /// The grid for `circuit`, filling in the suggested range where no edge was given.
+    pub fn grid_for(&self, circuit: &bandwright::Circuit) -> Result<bandwright::FrequencyGrid> {
+        let (suggested_from, suggested_to) = bandwright::sweep::suggested_range(circuit);
+        let from = self.from_hz.unwrap_or(suggested_from);
+        let to = self.to_hz.unwrap_or(match self.from_hz {
+            Some(from) if from >= suggested_to => from * 1e4,
+            _ => suggested_to,
+        });
+        let from = match self.from_hz {
+            None if to <= from => to / 1e4,
+            _ => from,
+        };
+        Ok(bandwright::FrequencyGrid::log(from, to, self.spacing)?)
+    }
+}
+
+fn frequency(flag: &str, text: &str) -> Result<f64> {
+    let value = parse_value(text, Quantity::Frequency).with_context(|| flag.to_string())?;
+    if value.is_nan() || value <= 0.0 {
+        bail!("{flag} {text}: give a frequency above 0 Hz");
+    }
+    Ok(value)
+}
+
+fn count(flag: &str, text: &str) -> Result<usize> {
+    let value = parse_value(text, Quantity::Ratio).with_context(|| flag.to_string())?;
+    if !(2.0..=bandwright::sweep::MAX_POINTS as f64).contains(&value) || value.fract() != 0.0 {
+        bail!("{flag} {text}: give a whole number of points from 2 to {}", bandwright::sweep::MAX_POINTS);
+    }
+    Ok(value as usize)
+}
