@@ -19,8 +19,96 @@ pub enum Command {
     Sweep(SweepArgs),
     /// Print a design's parts and its measurements (passband gain, -3 dB points, peak, |Z_in|).
     Info(InfoArgs),
+    /// Fit a requirement to standard parts and print the best alternatives.
+    Fit(Box<FitArgs>),
     /// Print the safety cautions that apply to building filters and crossovers.
     Cautions,
+}
+
+/// Output formats of `fit`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum FitFormat {
+    /// A readable parts table per alternative.
+    Table,
+    /// One JSON object with `alternatives`, best first.
+    Json,
+}
+
+/// Flags of `fit`. Values are engineering notation; validation happens in `options`.
+#[derive(Debug, Args)]
+pub struct FitArgs {
+    /// lowpass, highpass, bandpass or bandstop.
+    #[arg(long, default_value = "lowpass")]
+    pub response: String,
+    /// butterworth, chebyshev, bessel or linkwitz-riley.
+    #[arg(long, default_value = "butterworth")]
+    pub alignment: String,
+    /// Chebyshev passband ripple in dB.
+    #[arg(long, value_name = "DB")]
+    pub ripple: Option<String>,
+    /// Bessel cutoff normalisation: magnitude (-3 dB at the cutoff), delay or phase.
+    #[arg(long, value_name = "NORM", default_value = "magnitude")]
+    pub bessel_norm: String,
+    /// Filter order (the low-pass prototype order for band-pass and band-stop ladders).
+    #[arg(long, value_name = "N")]
+    pub order: Option<String>,
+    /// Cutoff frequency (low-pass, high-pass).
+    #[arg(long, value_name = "F")]
+    pub cutoff: Option<String>,
+    /// Natural frequency of a second-order section (with --q).
+    #[arg(long, value_name = "F")]
+    pub f0: Option<String>,
+    /// Pole Q of a second-order section (with --f0).
+    #[arg(long, value_name = "Q")]
+    pub q: Option<String>,
+    /// Lower band edge (band-pass, band-stop).
+    #[arg(long, value_name = "F")]
+    pub low: Option<String>,
+    /// Upper band edge (band-pass, band-stop).
+    #[arg(long, value_name = "F")]
+    pub high: Option<String>,
+    /// Source resistance (0 for an ideal source).
+    #[arg(long, value_name = "R", default_value = "0")]
+    pub source: String,
+    /// Load resistance, or "open".
+    #[arg(long, value_name = "R", default_value = "open")]
+    pub load: String,
+    /// Load capacitance in parallel with the load.
+    #[arg(long, value_name = "C")]
+    pub load_capacitance: Option<String>,
+    /// rc, rl, rlc or ladder.
+    #[arg(long, default_value = "ladder")]
+    pub topology: String,
+    /// Ladder element next to the source: series or shunt.
+    #[arg(long, default_value = "shunt")]
+    pub first: String,
+    /// Resistor values: an E-series name (E3..E192) or a stock-list file.
+    #[arg(long, value_name = "SERIES", default_value = "E96")]
+    pub resistors: String,
+    /// Capacitor values: an E-series name or a stock-list file.
+    #[arg(long, value_name = "SERIES", default_value = "E12")]
+    pub capacitors: String,
+    /// Inductor values: an E-series name or a stock-list file.
+    #[arg(long, value_name = "SERIES", default_value = "E12")]
+    pub inductors: String,
+    /// Allow two-part series or parallel combinations.
+    #[arg(long)]
+    pub combine: bool,
+    /// How many alternatives to print.
+    #[arg(long, value_name = "N", default_value = "5")]
+    pub alternatives: String,
+    /// Smallest resistor for a free impedance level.
+    #[arg(long, value_name = "R", default_value = "100")]
+    pub r_min: String,
+    /// Largest resistor for a free impedance level.
+    #[arg(long, value_name = "R", default_value = "1M")]
+    pub r_max: String,
+    /// Output format.
+    #[arg(long, value_enum, default_value = "table")]
+    pub format: FitFormat,
+    /// Write the best alternative as a design file that `bandwright sweep` reads.
+    #[arg(long, value_name = "FILE")]
+    pub save: Option<PathBuf>,
 }
 
 /// Output formats of `sweep`.

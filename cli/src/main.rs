@@ -45,6 +45,17 @@ fn run(cli: args::Cli) -> Result<()> {
             print!("{}", output::render_info(&design, &analysis, &options)?);
             Ok(())
         }
+        args::Command::Fit(raw) => {
+            let command = options::FitCommand::from_args(*raw)?;
+            let result = bandwright::fit::fit(&command.requirement, command.topology, &command.options)?;
+            if let Some(path) = &command.save {
+                let best = result.alternatives.first().ok_or_else(|| anyhow::anyhow!("no alternative to save"))?;
+                std::fs::write(path, best.design.to_json() + "\n")
+                    .with_context(|| format!("cannot write the design to {}", path.display()))?;
+            }
+            print!("{}", output::render_fit(&result, command.format));
+            Ok(())
+        }
         args::Command::Cautions => {
             print!("{}", output::render_cautions());
             Ok(())

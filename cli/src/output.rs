@@ -264,3 +264,139 @@ pub fn render_cautions() -> String {
     }
     out
 }
+
+fn part_quantity(kind: &str) -> Quantity {
+    match kind {
+        "capacitor" => Quantity::Capacitance,
+        "inductor" => Quantity::Inductance,
+        _ => Quantity::Resistance,
+    }
+}
+
+/// Renders a fit result.
+pub fn render_fit(result: &bandwright::fit::FitResult, format: crate::args::FitFormat) -> String {
+    use bandwright::fit::Arrangement;
+    let mut out = String::new();
+    let figures = |f: &bandwright::fit::Figures| {
+        let mut map = serde_json::Map::new();
+        if let Some(x) = f.cutoff_hz {
+            map.insert("cutoff_hz".into(), json!(x));
+        }
+        if let Some(x) = f.f0_hz {
+            map.insert("f0_hz".into(), json!(x));
+        }
+        if let Some(x) = f.q {
+            map.insert("q".into(), json!(x));
+        }
+        Value::Object(map)
+    };
+    let arrangement = |a: Arrangement| match a {
+        Arrangement::Single => "single",
+        Arrangement::Series => "series",
+        Arrangement::Parallel => "parallel",
+    };
+    match format {
+        crate::args::FitFormat::Json => {
+            let alternatives: Vec<Value> = result
+                .alternatives
+                .iter()
+                .map(|a| {
+                    json!({
+                        "parts": a.parts.iter().map(|p| json!({
+                            "ref": p.reference, "kind": p.kind, "ideal_value": p.ideal_value,
+                            "chosen_value": p.choice.value, "chosen_parts": p.choice.parts,
+                            "arrangement": arrangement(p.choice.arrangement), "series": p.series,
+                            "tolerance_pct": p.tolerance_pct, "deviation_pct": p.deviation_pct,
+                        })).collect::<Vec<_>>(),
+                        "achieved": figures(&a.achieved),
+                        "cutoff_error_pct": a.cutoff_error_pct,
+                        "f0_error_pct": a.f0_error_pct,
+                        "q_error_pct": a.q_error_pct,
+                        "max_response_deviation_db": a.max_response_deviation_db,
+                    })
+                })
+                .collect();
+            let value = json!({
+                "target": figures(&result.target),
+                "deviation_band_hz": [result.deviation_band_hz.0, result.deviation_band_hz.1],
+                "objective": result.objective,
+                "alternatives": alternatives,
+            });
+            out.push_str(&serde_json::to_string_pretty(&value).expect("JSON of plain values"));
+            out.push('\n');
+        }
+        crate::args::FitFormat::Table => {
+            let freq = |x: f64| format_quantity(x, Quantity::Frequency, 5);
+            let mut target = Vec::new();
+            if let Some(x) = result.target.cutoff_hz {
+                target.push(format!("cutoff {}", freq(x)));
+            }
+            if let Some(x) = result.target.f0_hz {
+                target.push(format!("f0 {}", freq(x)));
+            }
+            if let Some(x) = result.target.q {
+                target.push(format!("Q {x:.4}"));
+            }
+            let _ = writeln!(out, "target: {}", target.join(", "));
+            let _ = writeln!(out, "ranked by: {}", result.objective);
+            let _ = writeln!(
+                out,
+                "response deviation measured over {} … {} against the ideal-value circuit",
+                freq(result.deviation_band_hz.0),
+                freq(result.deviation_band_hz.1)
+            );
+            for (rank, a) in result.alternatives.iter().enumerate() {
+                let mut figures = Vec::new();
+                if let (Some(x), Some(e)) = (a.achieved.cutoff_hz, a.cutoff_error_pct) {
+                    figures.push(format!("cutoff {} ({e:+.3} %)", freq(x)));
+                }
+                if let (Some(x), Some(e)) = (a.achieved.f0_hz, a.f0_error_pct) {
+                    figures.push(format!("f0 {} ({e:+.3} %)", freq(x)));
+                }
+                if let (Some(x), Some(e)) = (a.achieved.q, a.q_error_pct) {
+                    figures.push(format!("Q {x:.4} ({e:+.3} %)"));
+                }
+                let _ = writeln!(
+                    out,
+                    "\n#{}  {}; worst response deviation {:.3} dB",
+                    rank + 1,
+                    figures.join(", "),
+                    a.max_response_deviation_db
+                );
+                let _ = writeln!(
+                    out,
+                    "  {:<5} {:<10} {:>12}  {:<26} {:<8} {:>6}  {:>9}",
+                    "ref", "kind", "ideal", "chosen", "series", "tol", "deviation"
+                );
+                for p in &a.parts {
+                    let q = part_quantity(p.kind);
+                    let chosen = match p.choice.arrangement {
+                        Arrangement::Single => format_quantity(p.choice.value, q, 3),
+                        Arrangement::Series => format!(
+                            "{} + {}",
+                            format_quantity(p.choice.parts[0], q, 3),
+                            format_quantity(p.choice.parts[1], q, 3)
+                        ),
+                        Arrangement::Parallel => format!(
+                            "{} ∥ {}",
+                            format_quantity(p.choice.parts[0], q, 3),
+                            format_quantity(p.choice.parts[1], q, 3)
+                        ),
+                    };
+                    let _ = writeln!(
+                        out,
+                        "  {:<5} {:<10} {:>12}  {:<26} {:<8} {:>6}  {:>+8.3} %",
+                        p.reference,
+                        p.kind,
+                        format_quantity(p.ideal_value, q, 4),
+                        chosen,
+                        p.series,
+                        p.tolerance_pct.map(|t| format!("±{t}%")).unwrap_or_else(|| "—".to_string()),
+                        p.deviation_pct
+                    );
+                }
+            }
+        }
+    }
+    out
+}

@@ -17,8 +17,8 @@
 //!   fails as a whole: a frequency that cannot be solved is recorded as such.
 //!
 //! # Reading order
-//! [`notation`] → [`circuit`] → [`lu`] → [`mna`] → [`sweep`] → [`response`] → [`measure`] →
-//! [`design`], and [`cautions`] for the safety text every adapter shows.
+//! [`notation`] → [`circuit`] → [`lu`] → [`mna`] → [`modal`] → [`sweep`] → [`response`] →
+//! [`measure`] → [`design`], and [`cautions`] for the safety text every adapter shows.
 #![deny(missing_docs)]
 
 pub mod notation;
@@ -28,18 +28,39 @@ pub mod design;
 pub mod lu;
 pub mod measure;
 pub mod mna;
+pub mod modal;
 pub mod response;
 pub mod sweep;
 
 pub mod cautions;
 
+// Synthesis: from a requirement to a circuit of standard parts.
+pub mod synthesis;
+
+pub mod eseries;
+
+pub mod prototype;
+
+pub mod transform;
+
+pub mod ladder;
+
+pub mod fit;
+
 pub use circuit::{Circuit, CircuitBuilder, CircuitError, Element, ElementKind, Gain, Node};
 pub use design::{parse_design, Design, DesignError, Load, Part, Source};
+pub use eseries::{PartValues, Series, StockError, StockList};
+pub use ladder::{
+    prototype_values, prototype_values_for, synthesize_ladder, FirstElement, LadderOptions, Prototype, Termination,
+};
 pub use measure::{
     attenuation_db_at, gain_db_at, measure, Corner, Edge, Extremum, GainReference, MeasureError, Measurements,
     ReferenceKind,
 };
 pub use mna::{AcSystem, Detail, ElementState, Probe, Solution, SolveError};
+pub use modal::{Modal, ModalError};
 pub use notation::{format_quantity, format_value, parse_value, ParseError, Quantity};
+pub use prototype::{lowpass_prototype, Section, Zpk, MAX_ORDER};
 pub use response::Response;
 pub use sweep::{sweep, FrequencyGrid, GridError, Spacing};
+pub use transform::{denormalize, target_response};

@@ -1,0 +1,1210 @@
+//! Fitting a requirement to purchasable parts: ideal values, a search over standard values (and
+//! optionally two-part series or parallel pairs), and an honest account of what the rounded
+//! parts achieve.
+//!
+//! # What is searched, and the objective
+//!
+//! - **RC and RL first-order sections** (low-pass and high-pass). The impedance level is free:
+//!   every single resistor value in the allowed range is tried, and for each one the reactive part
+//!   takes the candidates nearest its ideal value (singles, and pairs when allowed). The objective
+//!   is the relative error of the pole (cutoff) frequency, computed in closed form including the
+//!   source resistance, load resistance and (for the RC low-pass) load capacitance.
+//! - **RLC second-order sections** (low-pass, high-pass, band-pass, notch; series input form).
+//!   Every single inductor value whose characteristic impedance ω0·L lies in the resistor range is
+//!   tried; for each, every capacitor candidate within a factor of 4 of its ideal value; for each
+//!   of those, the resistor candidates nearest the resistance that gives the exact Q. The
+//!   objective is √(e_f0² + e_Q²) with relative errors, in closed form including Rs, RL and (low-pass)
+//!   the load capacitance.
+//! - **LC ladders.** Terminations are fixed by the requirement, so each element has one ideal
+//!   value. Each element keeps its `CANDIDATES_PER_ELEMENT` nearest candidates; the
+//!   `LADDER_POOL` assignments with the smallest Σ ln²(chosen/ideal) are enumerated exactly
+//!   (best-first over sorted lists), swept by MNA, and ranked by the worst response deviation.
+//!
+//! For every alternative the worst response deviation is measured by sweeping the fitted circuit
+//! and the ideal circuit with the core's MNA over the **deviation band**: low-pass [fc/10, 3·fc],
+//! high-pass [fc/3, 10·fc], band-pass and notch [f_low/3, 3·f_high] (passband plus transition
+//! band; common practice for judging a fit, not a standard), at frequencies where the ideal
+//! response is within `DEVIATION_FLOOR_DB` of its peak.
+//!
+//! Closed forms (derived here from the series impedance Z_s and shunt admittance Y_p of each form,
+//! H = 1/(1 + Z_s·Y_p); R_t = R_s + R, G = 1/R_L, C′ = C + C_L):
+//! - RC low-pass: f_c = 1/(2π·((R_s + R) ∥ R_L)·C′).
+//! - RC high-pass: f_c = 1/(2π·(R_s + R ∥ R_L)·C) (no load capacitance).
+//! - RL low-pass: f_c = (R_s + R ∥ R_L)/(2π·L); RL high-pass: f_c = ((R_s + R) ∥ R_L)/(2π·L).
+//! - RLC low-pass: D = LC′s² + (LG + R_tC′)s + (1 + R_tG).
+//! - RLC high-pass: D = LC(1 + R_tG)s² + (CR_t + GL)s + 1.
+//! - RLC band-pass (series R–L–C into R_L): D = LCs² + C(R_t + R_L)s + 1.
+//! - RLC notch (series R_t, shunt series L–C, load R_L): D = LC(1 + R_tG)s² + CR_ts + (1 + R_tG).
+//!
+//! and for D = a·s² + b·s + c: ω0 = √(c/a), Q = √(a·c)/b.
+
+use crate::design::{Design, Load, Part, Source, FORMAT, VERSION};
+use crate::eseries::PartValues;
+use crate::ladder::{FirstElement, LadderOptions, Termination};
+use crate::mna::{AcSystem, Detail};
+use crate::prototype::{lowpass_prototype, Section};
+use crate::response::Response;
+use crate::sweep::{sweep, FrequencyGrid, Spacing};
+use crate::synthesis::{Alignment, Band, ResponseType, SynthesisError};
+use std::collections::{BinaryHeap, HashSet};
+use std::f64::consts::PI;
+
+/// How many nearest candidates each ladder element keeps.
+pub const CANDIDATES_PER_ELEMENT: usize = 6;
+/// How many ladder assignments are swept and ranked by response deviation.
+pub const LADDER_POOL: usize = 64;
+/// Response deviation is measured only where the ideal response is within this many dB of its
+/// peak, so that a deep stopband or a notch's null does not swamp the figure.
+pub const DEVIATION_FLOOR_DB: f64 = 40.0;
+/// Points per decade of the deviation sweep.
+pub const DEVIATION_POINTS_PER_DECADE: f64 = 40.0;
+
+/// Which realization to fit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Topology {
+    /// A first-order RC section.
+    Rc,
+    /// A first-order RL section.
+    Rl,
+    /// A second-order RLC section (series input form).
+    Rlc,
+    /// An LC ladder.
+    Ladder(FirstElement),
+}
+
+/// Whether a part may be made of two standard parts.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Combine {
+    /// One standard part per position.
+    Single,
+    /// One part, or two in series or in parallel.
+    Pairs,
+}
+
+/// How a chosen value is made.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Arrangement {
+    /// One part.
+    Single,
+    /// Two parts in series.
+    Series,
+    /// Two parts in parallel.
+    Parallel,
+}
+
+/// A purchasable value: one part or a pair.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Choice {
+    /// The effective value in SI units.
+    pub value: f64,
+    /// The one or two part values.
+    pub parts: Vec<f64>,
+    /// How they are connected.
+    pub arrangement: Arrangement,
+}
+
+/// The value sets to choose from, per part type.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PartSets {
+    /// Resistors (e.g. E96).
+    pub resistors: PartValues,
+    /// Capacitors (e.g. E12).
+    pub capacitors: PartValues,
+    /// Inductors (e.g. E12 or a stock list).
+    pub inductors: PartValues,
+}
+
+/// The requirement: what the filter must do and what it sits between.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Requirement {
+    /// Low-pass, high-pass, band-pass or band-stop.
+    pub response: ResponseType,
+    /// The alignment.
+    pub alignment: Alignment,
+    /// The prototype order (the low-pass order for band-pass and band-stop).
+    pub order: usize,
+    /// Cutoff, f0, or band edges, in Hz.
+    pub band: Band,
+    /// Source resistance in Ω (0 = ideal source).
+    pub source_resistance: f64,
+    /// Load resistance in Ω (`None` = open).
+    pub load_resistance: Option<f64>,
+    /// Load capacitance in F, in parallel with the load.
+    pub load_capacitance: Option<f64>,
+}
+
+/// Options of the search.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FitOptions {
+    /// The value sets.
+    pub parts: PartSets,
+    /// Whether pairs are allowed.
+    pub combine: Combine,
+    /// How many alternatives to return.
+    pub alternatives: usize,
+    /// The allowed resistor range in Ω for free impedance levels, e.g. (100, 1e6).
+    pub resistor_range: (f64, f64),
+    /// A name for the designs.
+    pub name: String,
+}
+
+/// The key figures of a response.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct Figures {
+    /// Cutoff (pole) frequency in Hz, for first-order sections and ladders.
+    pub cutoff_hz: Option<f64>,
+    /// Natural frequency in Hz, for second-order sections.
+    pub f0_hz: Option<f64>,
+    /// Pole Q, for second-order sections.
+    pub q: Option<f64>,
+}
+
+/// One fitted part.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FittedPart {
+    /// Reference, e.g. `C1`.
+    pub reference: String,
+    /// "resistor", "capacitor" or "inductor".
+    pub kind: &'static str,
+    /// The ideal value in SI units.
+    pub ideal_value: f64,
+    /// The chosen value or pair.
+    pub choice: Choice,
+    /// The series or stock list it comes from.
+    pub series: String,
+    /// The usual tolerance of that series in %, if known.
+    pub tolerance_pct: Option<f64>,
+    /// 100·(chosen − ideal)/ideal.
+    pub deviation_pct: f64,
+}
+
+/// One ranked alternative.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Alternative {
+    /// The parts list.
+    pub parts: Vec<FittedPart>,
+    /// What the chosen parts achieve.
+    pub achieved: Figures,
+    /// Cutoff error in % (first-order and ladders).
+    pub cutoff_error_pct: Option<f64>,
+    /// f0 error in % (second-order).
+    pub f0_error_pct: Option<f64>,
+    /// Q error in % (second-order).
+    pub q_error_pct: Option<f64>,
+    /// The worst |dB(fitted) − dB(ideal)| over the deviation band.
+    pub max_response_deviation_db: f64,
+    /// The search objective's value (smaller is better).
+    pub objective: f64,
+    /// The fitted circuit as a design.
+    pub design: Design,
+}
+
+/// The result of a fit.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FitResult {
+    /// The design with ideal (unrounded) values.
+    pub ideal: Design,
+    /// The target figures.
+    pub target: Figures,
+    /// The band over which response deviation is measured, in Hz.
+    pub deviation_band_hz: (f64, f64),
+    /// A one-line statement of what was ranked.
+    pub objective: String,
+    /// The alternatives, best first.
+    pub alternatives: Vec<Alternative>,
+}
+
+/// Fits `requirement` with `topology` to standard parts.
+///
+/// # Errors
+/// [`SynthesisError`] for an impossible or malformed requirement (Q > 0.5 with RC, order out of
+/// range, a non-positive cutoff, impossible terminations, an empty stock list) or when no
+/// candidate lies in range.
+pub fn fit(requirement: &Requirement, topology: Topology, options: &FitOptions) -> Result<FitResult, SynthesisError> {
+    validate(requirement, options)?;
+    match topology {
+        Topology::Rc | Topology::Rl => fit_first_order(requirement, topology, options),
+        Topology::Rlc => fit_second_order(requirement, options),
+        Topology::Ladder(first) => fit_ladder(requirement, first, options),
+    }
+}
+
+fn validate(requirement: &Requirement, options: &FitOptions) -> Result<(), SynthesisError> {
+    let rs = requirement.source_resistance;
+    if !(rs.is_finite() && rs >= 0.0) {
+        return Err(SynthesisError::BadValue { what: "source resistance", value: rs });
+    }
+    if let Some(rl) = requirement.load_resistance {
+        if !(rl.is_finite() && rl > 0.0) {
+            return Err(SynthesisError::BadValue { what: "load resistance", value: rl });
+        }
+    }
+    if let Some(cl) = requirement.load_capacitance {
+        if !(cl.is_finite() && cl >= 0.0) {
+            return Err(SynthesisError::BadValue { what: "load capacitance", value: cl });
+        }
+    }
+    let (lo, hi) = options.resistor_range;
+    if !(lo.is_finite() && hi.is_finite() && lo > 0.0 && hi > lo) {
+        return Err(SynthesisError::BadValue { what: "resistor range", value: lo });
+    }
+    if options.alternatives == 0 {
+        return Err(SynthesisError::BadValue { what: "number of alternatives", value: 0.0 });
+    }
+    Ok(())
+}
+
+/// The kind of part a value set is for; it decides how pairs combine.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum PartKind {
+    /// Resistors and inductors: series values add, parallel values combine reciprocally.
+    Additive,
+    /// Capacitors: parallel values add, series values combine reciprocally.
+    Capacitive,
+}
+
+impl PartKind {
+    fn of(kind: &str) -> Self {
+        if kind == "capacitor" {
+            PartKind::Capacitive
+        } else {
+            PartKind::Additive
+        }
+    }
+}
+
+/// All candidate choices from `values` within [low, high], singles and (if allowed) pairs.
+pub fn candidates(values: &PartValues, low: f64, high: f64, combine: Combine, kind: PartKind) -> Vec<Choice> {
+    let mut out: Vec<Choice> = values
+        .values_between(low, high)
+        .into_iter()
+        .map(|v| Choice { value: v, parts: vec![v], arrangement: Arrangement::Single })
+        .collect();
+    if combine == Combine::Pairs {
+        // Adding pairs use parts between low/10 and high; reciprocal pairs between low and 10·high.
+        let (adding, reciprocal) = match kind {
+            PartKind::Additive => (Arrangement::Series, Arrangement::Parallel),
+            PartKind::Capacitive => (Arrangement::Parallel, Arrangement::Series),
+        };
+        let adding_parts = values.values_between(low / 10.0, high);
+        for (i, &a) in adding_parts.iter().enumerate() {
+            for &b in &adding_parts[..=i] {
+                let v = a + b;
+                if (low..=high).contains(&v) {
+                    out.push(Choice { value: v, parts: vec![a, b], arrangement: adding });
+                }
+            }
+        }
+        let reciprocal_parts = values.values_between(low, high * 10.0);
+        for (i, &a) in reciprocal_parts.iter().enumerate() {
+            for &b in &reciprocal_parts[..=i] {
+                let v = a * b / (a + b);
+                if (low..=high).contains(&v) {
+                    out.push(Choice { value: v, parts: vec![a, b], arrangement: reciprocal });
+                }
+            }
+        }
+    }
+    out
+}
+
+/// The `k` candidates nearest `ideal` in |ln(value/ideal)|, nearest first (singles before pairs
+/// on ties).
+pub fn nearest_choices(values: &PartValues, ideal: f64, combine: Combine, kind: PartKind, k: usize) -> Vec<Choice> {
+    let (low, high) = (ideal / 4.0, ideal * 4.0);
+    let mut all = candidates(values, low, high, combine, kind);
+    all.sort_by(|a, b| {
+        let (ea, eb) = ((a.value / ideal).ln().abs(), (b.value / ideal).ln().abs());
+        ea.total_cmp(&eb).then(a.parts.len().cmp(&b.parts.len()))
+    });
+    all.dedup_by(|a, b| a.value == b.value && a.parts == b.parts);
+    all.truncate(k);
+    all
+}
+
+fn parallel(a: f64, b: Option<f64>) -> f64 {
+    match b {
+        Some(b) => a * b / (a + b),
+        None => a,
+    }
+}
+
+fn relative_error(achieved: f64, target: f64) -> f64 {
+    (achieved - target) / target
+}
+
+/// The target pole frequency (Hz) of a first-order requirement, or the (f0, Q) of a
+/// second-order one, from the prototype.
+fn target_sections(requirement: &Requirement) -> Result<Vec<Section>, SynthesisError> {
+    Ok(lowpass_prototype(requirement.alignment, requirement.order)?.sections())
+}
+
+fn cutoff_of(requirement: &Requirement) -> Result<f64, SynthesisError> {
+    match requirement.band {
+        Band::Cutoff(f) => crate::synthesis::positive("cutoff", f),
+        _ => Err(SynthesisError::Unsupported {
+            asked: format!("a {} with band edges", requirement.response.name()),
+            instead: "give one cutoff (--cutoff) for low-pass and high-pass".to_string(),
+        }),
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// First order
+
+fn first_order_cutoff(
+    topology: Topology,
+    response: ResponseType,
+    rs: f64,
+    r: f64,
+    reactive: f64,
+    req: &Requirement,
+) -> f64 {
+    let rl = req.load_resistance;
+    let cl = req.load_capacitance.unwrap_or(0.0);
+    match (topology, response) {
+        (Topology::Rc, ResponseType::LowPass) => 1.0 / (2.0 * PI * parallel(rs + r, rl) * (reactive + cl)),
+        (Topology::Rc, _) => 1.0 / (2.0 * PI * (rs + parallel(r, rl)) * reactive),
+        (_, ResponseType::LowPass) => (rs + parallel(r, rl)) / (2.0 * PI * reactive),
+        _ => parallel(rs + r, rl) / (2.0 * PI * reactive),
+    }
+}
+
+/// The ideal reactive value for resistor `r`, or `None` if none is positive.
+fn first_order_ideal(
+    topology: Topology,
+    response: ResponseType,
+    rs: f64,
+    r: f64,
+    fc: f64,
+    req: &Requirement,
+) -> Option<f64> {
+    let rl = req.load_resistance;
+    let cl = req.load_capacitance.unwrap_or(0.0);
+    let value = match (topology, response) {
+        (Topology::Rc, ResponseType::LowPass) => 1.0 / (2.0 * PI * fc * parallel(rs + r, rl)) - cl,
+        (Topology::Rc, _) => 1.0 / (2.0 * PI * fc * (rs + parallel(r, rl))),
+        (_, ResponseType::LowPass) => (rs + parallel(r, rl)) / (2.0 * PI * fc),
+        _ => parallel(rs + r, rl) / (2.0 * PI * fc),
+    };
+    (value.is_finite() && value > 0.0).then_some(value)
+}
+
+fn fit_first_order(req: &Requirement, topology: Topology, options: &FitOptions) -> Result<FitResult, SynthesisError> {
+    if req.order != 1 {
+        let sections = target_sections(req)?;
+        let q = sections
+            .iter()
+            .map(|s| match s {
+                Section::SecondOrder { q, .. } => *q,
+                Section::FirstOrder { .. } => 0.0,
+            })
+            .fold(0.0, f64::max);
+        if q > 0.5 - 1e-12 {
+            return Err(SynthesisError::QTooHighForRc { q });
+        }
+        return Err(SynthesisError::Unsupported {
+            asked: format!("a passive {}-stage RC/RL section", req.order),
+            instead: "use order 1 for RC and RL sections, or --topology rlc or ladder".to_string(),
+        });
+    }
+    if !matches!(req.response, ResponseType::LowPass | ResponseType::HighPass) {
+        return Err(SynthesisError::Unsupported {
+            asked: format!("a first-order {}", req.response.name()),
+            instead: "first-order RC and RL sections are low-pass or high-pass; use --topology rlc".to_string(),
+        });
+    }
+    let has_cl = req.load_capacitance.is_some_and(|c| c > 0.0);
+    if has_cl && !(topology == Topology::Rc && req.response == ResponseType::LowPass) {
+        return Err(SynthesisError::Unsupported {
+            asked: "a load capacitance on this first-order section".to_string(),
+            instead:
+                "it would make the section second order; only the RC low-pass absorbs a load capacitance (it adds to C)"
+                    .to_string(),
+        });
+    }
+    let pole = match target_sections(req)?.first() {
+        Some(Section::FirstOrder { omega }) => *omega,
+        _ => 1.0,
+    };
+    let fc = cutoff_of(req)? * pole;
+    let rs = req.source_resistance;
+    let (reactive_set, reactive_kind) = match topology {
+        Topology::Rc => (&options.parts.capacitors, "capacitor"),
+        _ => (&options.parts.inductors, "inductor"),
+    };
+    let resistors = options.parts.resistors.values_between(options.resistor_range.0, options.resistor_range.1);
+    if resistors.is_empty() {
+        return Err(SynthesisError::NoCandidates { reason: "no resistor value lies in the allowed range".to_string() });
+    }
+    // Search: every resistor, the nearest reactive candidates for it.
+    let mut scored: Vec<(f64, f64, Choice)> = Vec::new();
+    for &r in &resistors {
+        let Some(ideal) = first_order_ideal(topology, req.response, rs, r, fc, req) else { continue };
+        for choice in nearest_choices(reactive_set, ideal, options.combine, PartKind::of(reactive_kind), 4) {
+            let achieved = first_order_cutoff(topology, req.response, rs, r, choice.value, req);
+            scored.push((relative_error(achieved, fc).abs(), r, choice));
+        }
+    }
+    if scored.is_empty() {
+        return Err(SynthesisError::NoCandidates {
+            reason: format!("no {reactive_kind} in the chosen series gives this cutoff with resistors in range"),
+        });
+    }
+    scored.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.total_cmp(&b.1)));
+    let build = |r: &Choice, x: &Choice| first_order_design(req, topology, options, r, x);
+    let target = Figures { cutoff_hz: Some(fc), ..Figures::default() };
+    let band = deviation_band(req)?;
+    let mut alternatives = Vec::new();
+    let mut ideal = None;
+    let mut seen = HashSet::new();
+    for (objective, r, choice) in scored {
+        if alternatives.len() == options.alternatives {
+            break;
+        }
+        if !seen.insert((r.to_bits(), choice.value.to_bits())) {
+            continue;
+        }
+        // The ideal circuit at this alternative's impedance level, so the deviation is the cost
+        // of rounding alone.
+        let x_ideal = first_order_ideal(topology, req.response, rs, r, fc, req).unwrap_or(choice.value);
+        let ideal_here = build(&single(r), &single(x_ideal));
+        let ideal_response = sweep_design(&ideal_here, band)?;
+        let design = build(&single(r), &choice);
+        let achieved = first_order_cutoff(topology, req.response, rs, r, choice.value, req);
+        let parts = vec![
+            fitted("R1", "resistor", r, single(r), &options.parts.resistors),
+            fitted(if topology == Topology::Rc { "C1" } else { "L1" }, reactive_kind, x_ideal, choice, reactive_set),
+        ];
+        let deviation = max_deviation_db(&design, &ideal_response, band)?;
+        ideal.get_or_insert(ideal_here);
+        alternatives.push(Alternative {
+            parts,
+            achieved: Figures { cutoff_hz: Some(achieved), ..Figures::default() },
+            cutoff_error_pct: Some(100.0 * relative_error(achieved, fc)),
+            f0_error_pct: None,
+            q_error_pct: None,
+            max_response_deviation_db: deviation,
+            objective,
+            design,
+        });
+    }
+    let ideal = ideal.ok_or_else(|| SynthesisError::NoCandidates { reason: "no candidate was left".to_string() })?;
+    Ok(FitResult {
+        ideal,
+        target,
+        deviation_band_hz: band,
+        objective: "relative cutoff (pole frequency) error, closed form with source and load; every resistor in range tried; deviation against the ideal circuit at the same resistor".to_string(),
+        alternatives,
+    })
+}
+
+fn single(v: f64) -> Choice {
+    Choice { value: v, parts: vec![v], arrangement: Arrangement::Single }
+}
+
+fn fitted(reference: &str, kind: &'static str, ideal: f64, choice: Choice, set: &PartValues) -> FittedPart {
+    FittedPart {
+        reference: reference.to_string(),
+        kind,
+        ideal_value: ideal,
+        deviation_pct: 100.0 * (choice.value - ideal) / ideal,
+        choice,
+        series: set.name(),
+        tolerance_pct: set.tolerance_pct(),
+    }
+}
+
+fn base_design(req: &Requirement, name: &str, note: String, output: &str) -> Design {
+    let load = if req.load_resistance.is_some() || req.load_capacitance.is_some_and(|c| c > 0.0) {
+        Some(Load {
+            node: output.to_string(),
+            resistance: req.load_resistance,
+            capacitance: req.load_capacitance.filter(|c| *c > 0.0),
+        })
+    } else {
+        None
+    };
+    Design {
+        format: FORMAT.to_string(),
+        version: VERSION,
+        name: name.to_string(),
+        note,
+        source: Source { node: "in".to_string(), resistance: req.source_resistance, amplitude: 1.0 },
+        load,
+        output: output.to_string(),
+        elements: Vec::new(),
+    }
+}
+
+/// Adds a part made of `choice` between `a` and `b`: one part, or two in series or parallel.
+fn add_part(design: &mut Design, reference: &str, kind: &str, choice: &Choice, a: &str, b: &str) {
+    let make = |reference: String, value: f64, nodes: [String; 2]| match kind {
+        "resistor" => Part::Resistor { reference, value, nodes },
+        "capacitor" => Part::Capacitor { reference, value, nodes, series_resistance: None },
+        _ => Part::Inductor { reference, value, nodes, series_resistance: None },
+    };
+    match choice.arrangement {
+        Arrangement::Single => design.elements.push(make(reference.to_string(), choice.value, [a.into(), b.into()])),
+        Arrangement::Series => {
+            let mid = format!("{reference}_mid");
+            design.elements.push(make(format!("{reference}a"), choice.parts[0], [a.into(), mid.clone()]));
+            design.elements.push(make(format!("{reference}b"), choice.parts[1], [mid, b.into()]));
+        }
+        Arrangement::Parallel => {
+            design.elements.push(make(format!("{reference}a"), choice.parts[0], [a.into(), b.into()]));
+            design.elements.push(make(format!("{reference}b"), choice.parts[1], [a.into(), b.into()]));
+        }
+    }
+}
+
+fn first_order_design(req: &Requirement, topology: Topology, options: &FitOptions, r: &Choice, x: &Choice) -> Design {
+    let kind = if topology == Topology::Rc { "capacitor" } else { "inductor" };
+    let reference = if topology == Topology::Rc { "C1" } else { "L1" };
+    let note = format!(
+        "first-order {} {}, designed by Bandwright fit",
+        if topology == Topology::Rc { "RC" } else { "RL" },
+        req.response.name()
+    );
+    let mut design = base_design(req, &options.name, note, "out");
+    // RC low-pass and RL high-pass: series R, shunt reactive part; the others the reverse.
+    let series_resistor = matches!(
+        (topology, req.response),
+        (Topology::Rc, ResponseType::LowPass) | (Topology::Rl, ResponseType::HighPass)
+    );
+    if series_resistor {
+        add_part(&mut design, "R1", "resistor", r, "in", "out");
+        add_part(&mut design, reference, kind, x, "out", "0");
+    } else {
+        add_part(&mut design, reference, kind, x, "in", "out");
+        add_part(&mut design, "R1", "resistor", r, "out", "0");
+    }
+    design
+}
+
+// ---------------------------------------------------------------------------------------------
+// Second order
+
+/// The (f0 in Hz, Q) of an RLC form with series resistance `rt` (source plus R).
+fn rlc_figures(response: ResponseType, l: f64, c: f64, rt: f64, req: &Requirement) -> (f64, f64) {
+    let g = req.load_resistance.map_or(0.0, |r| 1.0 / r);
+    let rl = req.load_resistance.unwrap_or(f64::INFINITY);
+    let (a, b, cc) = match response {
+        ResponseType::LowPass => {
+            let cp = c + req.load_capacitance.unwrap_or(0.0);
+            (l * cp, l * g + rt * cp, 1.0 + rt * g)
+        }
+        ResponseType::HighPass => (l * c * (1.0 + rt * g), c * rt + g * l, 1.0),
+        ResponseType::BandPass => (l * c, c * (rt + rl), 1.0),
+        ResponseType::BandStop => (l * c * (1.0 + rt * g), c * rt, 1.0 + rt * g),
+    };
+    ((cc / a).sqrt() / (2.0 * PI), (a * cc).sqrt() / b)
+}
+
+/// The ideal C and total series resistance for inductor `l`, or `None` if the form cannot reach
+/// (f0, Q) with it.
+fn rlc_ideal(response: ResponseType, l: f64, f0: f64, q: f64, req: &Requirement) -> Option<(f64, f64)> {
+    let w = 2.0 * PI * f0;
+    let g = req.load_resistance.map_or(0.0, |r| 1.0 / r);
+    let cl = req.load_capacitance.unwrap_or(0.0);
+    let (c, rt) = match response {
+        ResponseType::BandPass => {
+            let rl = req.load_resistance?;
+            (1.0 / (w * w * l), w * l / q - rl)
+        }
+        ResponseType::BandStop => (1.0 / (w * w * l), w * l / (q - g * w * l)),
+        ResponseType::HighPass => {
+            let x = g * l * w;
+            let rt = w * l * (1.0 - q * x) / (q * (1.0 + x * x) - x);
+            (1.0 / (w * w * l * (1.0 + rt * g)), rt)
+        }
+        ResponseType::LowPass => {
+            // q·g·R² + R·(q − g·w·L) + (q·g·w²·L² − w·L) = 0
+            let (qa, qb, qc) = (q * g, q - g * w * l, q * g * w * w * l * l - w * l);
+            let rt = if qa == 0.0 {
+                -qc / qb
+            } else {
+                let disc = qb * qb - 4.0 * qa * qc;
+                if disc < 0.0 {
+                    return None;
+                }
+                (-qb + disc.sqrt()) / (2.0 * qa)
+            };
+            ((1.0 + rt * g) / (w * w * l) - cl, rt)
+        }
+    };
+    (c.is_finite() && c > 0.0 && rt.is_finite() && rt >= req.source_resistance).then_some((c, rt))
+}
+
+fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult, SynthesisError> {
+    let (f0, q) = match (req.response, req.band) {
+        (ResponseType::LowPass | ResponseType::HighPass, _) => {
+            if req.order != 2 {
+                return Err(SynthesisError::BadOrder {
+                    order: req.order,
+                    min: 2,
+                    max: 2,
+                    why: "an RLC section is second order; use --topology ladder for other orders",
+                });
+            }
+            let fc = cutoff_of(req)?;
+            match target_sections(req)?.first() {
+                Some(Section::SecondOrder { omega0, q }) => (fc * omega0, *q),
+                _ => return Err(SynthesisError::BadOrder { order: 2, min: 2, max: 2, why: "no second-order section" }),
+            }
+        }
+        (_, band) => {
+            if req.order != 1 && !matches!(req.alignment, Alignment::Quality { .. }) {
+                return Err(SynthesisError::BadOrder {
+                    order: req.order,
+                    min: 1,
+                    max: 1,
+                    why: "an RLC band-pass or notch is the first-order prototype transformed; give order 1, or --f0 and --q",
+                });
+            }
+            match (req.alignment, band) {
+                (Alignment::Quality { q }, Band::Cutoff(f0)) => (crate::synthesis::positive("f0", f0)?, q),
+                (_, band) => {
+                    let (low, high) = band.edges()?;
+                    let f0 = (low * high).sqrt();
+                    (f0, f0 / (high - low))
+                }
+            }
+        }
+    };
+    if !(q.is_finite() && q > 0.0) {
+        return Err(SynthesisError::BadQ { q });
+    }
+    if req.load_capacitance.is_some_and(|c| c > 0.0) && req.response != ResponseType::LowPass {
+        return Err(SynthesisError::Unsupported {
+            asked: format!("a load capacitance on an RLC {}", req.response.name()),
+            instead: "only the low-pass form absorbs a load capacitance; leave --load-capacitance out".to_string(),
+        });
+    }
+    let rs = req.source_resistance;
+    let w0 = 2.0 * PI * f0;
+    let (r_lo, r_hi) = options.resistor_range;
+    // Impedance levels from the resistor range, extended down to a hundredth of the terminations
+    // (a loudspeaker's 8 Ω sets a lower level than any signal resistor range).
+    let terminations = [Some(rs).filter(|r| *r > 0.0), req.load_resistance].into_iter().flatten();
+    let z_low = terminations.fold(r_lo, |z, r| z.min(r / 100.0));
+    let inductors = options.parts.inductors.values_between(z_low / w0, r_hi / w0);
+    let mut scored: Vec<(f64, Choice, Choice, Option<Choice>)> = Vec::new();
+    for &l in &inductors {
+        let Some((c_ideal, _)) = rlc_ideal(req.response, l, f0, q, req) else { continue };
+        for c in
+            candidates(&options.parts.capacitors, c_ideal / 4.0, c_ideal * 4.0, options.combine, PartKind::Capacitive)
+        {
+            // The R that gives the exact Q with this L and C, by bisection on the monotone Q(R_t).
+            let q_of = |rt: f64| rlc_figures(req.response, l, c.value, rt, req).1;
+            let r_candidates: Vec<Option<Choice>> = match exact_series_resistance(q_of, q, rs, r_hi) {
+                Some(rt) if rt - rs < r_lo / 100.0 => vec![None],
+                Some(rt) => {
+                    let mut list: Vec<Option<Choice>> =
+                        nearest_choices(&options.parts.resistors, rt - rs, options.combine, PartKind::Additive, 3)
+                            .into_iter()
+                            .map(Some)
+                            .collect();
+                    list.push(None);
+                    list
+                }
+                None => vec![None],
+            };
+            for r in r_candidates {
+                let rt = rs + r.as_ref().map_or(0.0, |r| r.value);
+                let (f_a, q_a) = rlc_figures(req.response, l, c.value, rt, req);
+                let objective = relative_error(f_a, f0).hypot(relative_error(q_a, q));
+                if objective.is_finite() {
+                    scored.push((objective, single(l), c.clone(), r));
+                }
+            }
+        }
+    }
+    if scored.is_empty() {
+        return Err(SynthesisError::NoCandidates {
+            reason: "no inductor and capacitor in the chosen series reach this f0 and Q with resistors in range"
+                .to_string(),
+        });
+    }
+    scored.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let band = deviation_band(req)?;
+    let mut alternatives = Vec::new();
+    let mut ideal = None;
+    for (objective, l, c, r) in scored.into_iter().take(options.alternatives) {
+        let rt = rs + r.as_ref().map_or(0.0, |r| r.value);
+        let (f_a, q_a) = rlc_figures(req.response, l.value, c.value, rt, req);
+        let (c_id, rt_id) = rlc_ideal(req.response, l.value, f0, q, req).unwrap_or((c.value, rt));
+        // The ideal circuit with this alternative's inductor, so the deviation is the cost of
+        // rounding alone.
+        let r_id = rt_id - rs;
+        let ideal_r = (r_id > 0.0).then(|| single(r_id));
+        let ideal_here = rlc_design(req, options, &single(l.value), &single(c_id), ideal_r.as_ref());
+        let ideal_response = sweep_design(&ideal_here, band)?;
+        let design = rlc_design(req, options, &l, &c, r.as_ref());
+        let mut parts = vec![
+            fitted("L1", "inductor", l.value, l.clone(), &options.parts.inductors),
+            fitted("C1", "capacitor", c_id, c.clone(), &options.parts.capacitors),
+        ];
+        if let Some(r) = &r {
+            parts.push(fitted("R1", "resistor", r_id.max(f64::MIN_POSITIVE), r.clone(), &options.parts.resistors));
+        }
+        let deviation = max_deviation_db(&design, &ideal_response, band)?;
+        ideal.get_or_insert(ideal_here);
+        alternatives.push(Alternative {
+            parts,
+            achieved: Figures { f0_hz: Some(f_a), q: Some(q_a), cutoff_hz: None },
+            cutoff_error_pct: None,
+            f0_error_pct: Some(100.0 * relative_error(f_a, f0)),
+            q_error_pct: Some(100.0 * relative_error(q_a, q)),
+            max_response_deviation_db: deviation,
+            objective,
+            design,
+        });
+    }
+    let ideal = ideal.ok_or_else(|| SynthesisError::NoCandidates { reason: "no candidate was left".to_string() })?;
+    Ok(FitResult {
+        ideal,
+        target: Figures { f0_hz: Some(f0), q: Some(q), cutoff_hz: None },
+        deviation_band_hz: band,
+        objective: "sqrt(e_f0^2 + e_Q^2) of relative errors, closed form with source and load; every inductor with w0*L in the resistor range tried; deviation against the ideal circuit with the same inductor".to_string(),
+        alternatives,
+    })
+}
+
+/// The total series resistance R_t ∈ [rs, rs + r_max] giving Q = `target` when Q(R_t) is
+/// monotone, by bisection; `None` if the target is outside the reachable range.
+fn exact_series_resistance(q_of: impl Fn(f64) -> f64, target: f64, rs: f64, r_max: f64) -> Option<f64> {
+    let (mut lo, mut hi) = (rs, rs + r_max);
+    let (q_lo, q_hi) = (q_of(lo) - target, q_of(hi) - target);
+    if !(q_lo.is_finite() || q_lo == f64::INFINITY) || q_lo.signum() == q_hi.signum() {
+        return if q_lo.abs() < q_hi.abs() { Some(lo) } else { None };
+    }
+    for _ in 0..100 {
+        let mid = 0.5 * (lo + hi);
+        if (q_of(mid) - target).signum() == q_lo.signum() {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    Some(0.5 * (lo + hi))
+}
+
+fn rlc_design(req: &Requirement, options: &FitOptions, l: &Choice, c: &Choice, r: Option<&Choice>) -> Design {
+    let note = format!("second-order RLC {}, series input form, designed by Bandwright fit", req.response.name());
+    let mut design = base_design(req, &options.name, note, "out");
+    let after_r = if let Some(r) = r {
+        add_part(&mut design, "R1", "resistor", r, "in", "n1");
+        "n1"
+    } else {
+        "in"
+    };
+    match req.response {
+        ResponseType::LowPass => {
+            add_part(&mut design, "L1", "inductor", l, after_r, "out");
+            add_part(&mut design, "C1", "capacitor", c, "out", "0");
+        }
+        ResponseType::HighPass => {
+            add_part(&mut design, "C1", "capacitor", c, after_r, "out");
+            add_part(&mut design, "L1", "inductor", l, "out", "0");
+        }
+        ResponseType::BandPass => {
+            add_part(&mut design, "L1", "inductor", l, after_r, "n2");
+            add_part(&mut design, "C1", "capacitor", c, "n2", "out");
+        }
+        ResponseType::BandStop => {
+            if after_r == "in" {
+                // The source resistance alone is the series element: the notch hangs on the input node.
+                design.output = "in".to_string();
+                if let Some(load) = &mut design.load {
+                    load.node = "in".to_string();
+                }
+                add_part(&mut design, "L1", "inductor", l, "in", "n2");
+            } else {
+                design.output = "n1".to_string();
+                if let Some(load) = &mut design.load {
+                    load.node = "n1".to_string();
+                }
+                add_part(&mut design, "L1", "inductor", l, "n1", "n2");
+            }
+            add_part(&mut design, "C1", "capacitor", c, "n2", "0");
+        }
+    }
+    design
+}
+
+// ---------------------------------------------------------------------------------------------
+// Ladders
+
+fn fit_ladder(req: &Requirement, first: FirstElement, options: &FitOptions) -> Result<FitResult, SynthesisError> {
+    let rs = req.source_resistance;
+    if req.load_capacitance.is_some_and(|c| c > 0.0) {
+        return Err(SynthesisError::Unsupported {
+            asked: "a load capacitance on an LC ladder".to_string(),
+            instead: "ladder synthesis assumes resistive terminations; absorb it into the last shunt capacitor by hand or leave it out"
+                .to_string(),
+        });
+    }
+    let (termination, r0) = match (rs > 0.0, req.load_resistance) {
+        (true, Some(rl)) if (rl / rs - 1.0).abs() < 1e-12 => (Termination::Equal, rs),
+        (true, Some(rl)) => (Termination::Ratio(rl / rs), rs),
+        (false, Some(rl)) => (Termination::IdealSource, rl),
+        (true, None) => (Termination::OpenLoad, rs),
+        (false, None) => {
+            return Err(SynthesisError::Terminations {
+                asked: "an LC ladder between an ideal source and an open load".to_string(),
+                reason: "a lossless ladder needs at least one resistive termination; give --source or --load"
+                    .to_string(),
+            })
+        }
+    };
+    let ladder_options = LadderOptions {
+        response: req.response,
+        band: req.band,
+        source_resistance: r0,
+        first,
+        name: options.name.clone(),
+    };
+    let ideal = crate::ladder::synthesize_ladder(req.alignment, req.order, termination, &ladder_options)?;
+    // Per element: the nearest candidates.
+    let elements: Vec<(String, &'static str, f64, [String; 2])> = ideal
+        .elements
+        .iter()
+        .filter_map(|part| match part {
+            Part::Capacitor { reference, value, nodes, .. } => {
+                Some((reference.clone(), "capacitor", *value, nodes.clone()))
+            }
+            Part::Inductor { reference, value, nodes, .. } => {
+                Some((reference.clone(), "inductor", *value, nodes.clone()))
+            }
+            Part::Resistor { reference, value, nodes } => Some((reference.clone(), "resistor", *value, nodes.clone())),
+            _ => None,
+        })
+        .collect();
+    let set_of = |kind: &str| match kind {
+        "capacitor" => &options.parts.capacitors,
+        "inductor" => &options.parts.inductors,
+        _ => &options.parts.resistors,
+    };
+    let lists: Vec<Vec<(f64, Choice)>> = elements
+        .iter()
+        .map(|(_, kind, ideal, _)| {
+            nearest_choices(set_of(kind), *ideal, options.combine, PartKind::of(kind), CANDIDATES_PER_ELEMENT)
+                .into_iter()
+                .map(|c| ((c.value / ideal).ln().powi(2), c))
+                .collect()
+        })
+        .collect();
+    if let Some((index, _)) = lists.iter().enumerate().find(|(_, l)| l.is_empty()) {
+        return Err(SynthesisError::NoCandidates {
+            reason: format!(
+                "no {} value lies within a factor of 4 of {}'s ideal value",
+                elements[index].1, elements[index].0
+            ),
+        });
+    }
+    let pool = best_assignments(&lists, LADDER_POOL.max(options.alternatives));
+    let band = deviation_band(req)?;
+    let ideal_response = sweep_design(&ideal, band)?;
+    let target_cutoff = cutoff_of(req).ok();
+    let mut ranked = Vec::new();
+    for (log_error, assignment) in pool {
+        let mut design = ideal.clone();
+        design.elements.clear();
+        let mut parts = Vec::new();
+        for ((reference, kind, ideal_value, nodes), (&choice_index, list)) in
+            elements.iter().zip(assignment.iter().zip(&lists))
+        {
+            let choice = list[choice_index].1.clone();
+            add_part(&mut design, reference, kind, &choice, &nodes[0], &nodes[1]);
+            parts.push(fitted(reference, kind, *ideal_value, choice, set_of(kind)));
+        }
+        design.note = format!("{} Parts fitted by Bandwright.", ideal.note);
+        let deviation = max_deviation_db(&design, &ideal_response, band)?;
+        let achieved_cutoff = target_cutoff.and_then(|fc| achieved_corner(&design, &ideal_response, fc, band));
+        ranked.push((deviation, log_error, parts, design, achieved_cutoff));
+    }
+    ranked.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.total_cmp(&b.1)));
+    let alternatives = ranked
+        .into_iter()
+        .take(options.alternatives)
+        .map(|(deviation, _, parts, design, achieved_cutoff)| Alternative {
+            parts,
+            achieved: Figures { cutoff_hz: achieved_cutoff, ..Figures::default() },
+            cutoff_error_pct: achieved_cutoff.zip(target_cutoff).map(|(a, t)| 100.0 * relative_error(a, t)),
+            f0_error_pct: None,
+            q_error_pct: None,
+            max_response_deviation_db: deviation,
+            objective: deviation,
+            design,
+        })
+        .collect();
+    Ok(FitResult {
+        ideal,
+        target: Figures { cutoff_hz: target_cutoff, ..Figures::default() },
+        deviation_band_hz: band,
+        objective: format!(
+            "worst response deviation in dB over the deviation band, among the {LADDER_POOL} assignments with the smallest sum of squared log value errors ({CANDIDATES_PER_ELEMENT} candidates per element)"
+        ),
+        alternatives,
+    })
+}
+
+/// The `count` index assignments with the smallest summed cost, each list sorted ascending by
+/// cost, enumerated exactly best-first (a heap over successor assignments, each reached once).
+pub fn best_assignments<T>(lists: &[Vec<(f64, T)>], count: usize) -> Vec<(f64, Vec<usize>)> {
+    #[derive(PartialEq)]
+    struct Entry(f64, Vec<usize>);
+    impl Eq for Entry {}
+    impl PartialOrd for Entry {
+        fn partial_cmp(&self, other: &Self) -> Option<std::cmp::Ordering> {
+            Some(self.cmp(other))
+        }
+    }
+    impl Ord for Entry {
+        fn cmp(&self, other: &Self) -> std::cmp::Ordering {
+            other.0.total_cmp(&self.0).then_with(|| other.1.cmp(&self.1))
+        }
+    }
+    let cost = |assignment: &[usize]| assignment.iter().zip(lists).map(|(&i, list)| list[i].0).sum::<f64>();
+    let mut heap = BinaryHeap::new();
+    let start = vec![0; lists.len()];
+    heap.push(Entry(cost(&start), start));
+    let mut out = Vec::new();
+    let mut seen = HashSet::new();
+    while let Some(Entry(total, assignment)) = heap.pop() {
+        if !seen.insert(assignment.clone()) {
+            continue;
+        }
+        for k in 0..lists.len() {
+            if assignment[k] + 1 < lists[k].len() {
+                let mut next = assignment.clone();
+                next[k] += 1;
+                if !seen.contains(&next) {
+                    heap.push(Entry(cost(&next), next));
+                }
+            }
+        }
+        out.push((total, assignment));
+        if out.len() == count {
+            break;
+        }
+    }
+    out
+}
+
+// ---------------------------------------------------------------------------------------------
+// Deviation measurement
+
+fn deviation_band(req: &Requirement) -> Result<(f64, f64), SynthesisError> {
+    Ok(match (req.response, req.band) {
+        (ResponseType::LowPass, band) => {
+            let fc = match band {
+                Band::Cutoff(f) => crate::synthesis::positive("cutoff", f)?,
+                other => other.edges()?.1,
+            };
+            (fc / 10.0, fc * 3.0)
+        }
+        (ResponseType::HighPass, band) => {
+            let fc = match band {
+                Band::Cutoff(f) => crate::synthesis::positive("cutoff", f)?,
+                other => other.edges()?.0,
+            };
+            (fc / 3.0, fc * 10.0)
+        }
+        (_, Band::Cutoff(f0)) => {
+            let f0 = crate::synthesis::positive("f0", f0)?;
+            (f0 / 10.0, f0 * 10.0)
+        }
+        (_, band) => {
+            let (low, high) = band.edges()?;
+            (low / 3.0, high * 3.0)
+        }
+    })
+}
+
+fn sweep_design(design: &Design, band: (f64, f64)) -> Result<Response, SynthesisError> {
+    let (circuit, probe) = design.to_circuit().map_err(|e| SynthesisError::NoCandidates { reason: e.to_string() })?;
+    let grid = FrequencyGrid::log(band.0, band.1, Spacing::PerDecade(DEVIATION_POINTS_PER_DECADE))
+        .map_err(|e| SynthesisError::NoCandidates { reason: e.to_string() })?;
+    Ok(sweep(&mut AcSystem::new(&circuit, &probe), &grid, Detail::Transfer))
+}
+
+fn max_deviation_db(design: &Design, ideal: &Response, band: (f64, f64)) -> Result<f64, SynthesisError> {
+    let fitted = sweep_design(design, band)?;
+    let ideal_db = ideal.magnitude_db();
+    let peak = ideal_db.iter().flatten().copied().fold(f64::NEG_INFINITY, f64::max);
+    let worst = fitted
+        .magnitude_db()
+        .iter()
+        .zip(ideal_db)
+        .filter_map(|(a, b)| a.zip(b).filter(|(_, b)| *b >= peak - DEVIATION_FLOOR_DB).map(|(a, b)| (a - b).abs()))
+        .fold(0.0, f64::max);
+    Ok(worst)
+}
+
+/// The achieved cutoff: the target scaled by how far the fitted design's −3 dB corner moved
+/// from the ideal design's corner nearest the target. For Butterworth and Bessel (−3 dB
+/// normalised) this is the fitted −3 dB frequency itself; for Chebyshev (ripple-edge normalised)
+/// it is the ripple edge moved by the same ratio.
+fn achieved_corner(design: &Design, ideal: &Response, target: f64, band: (f64, f64)) -> Option<f64> {
+    let nearest = |response: &Response| {
+        crate::measure::measure(response)
+            .ok()?
+            .corners
+            .iter()
+            .map(|c| c.f_hz)
+            .min_by(|a, b| (a / target).ln().abs().total_cmp(&(b / target).ln().abs()))
+    };
+    let fitted = sweep_design(design, band).ok()?;
+    Some(target * nearest(&fitted)? / nearest(ideal)?)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::eseries::Series;
+
+    fn parts(r: Series, c: Series, l: Series) -> PartSets {
+        PartSets {
+            resistors: PartValues::Series(r),
+            capacitors: PartValues::Series(c),
+            inductors: PartValues::Series(l),
+        }
+    }
+
+    fn options(sets: PartSets, combine: Combine) -> FitOptions {
+        FitOptions { parts: sets, combine, alternatives: 5, resistor_range: (100.0, 1e6), name: "test".to_string() }
+    }
+
+    fn lowpass(order: usize, fc: f64, rs: f64, rl: Option<f64>) -> Requirement {
+        Requirement {
+            response: ResponseType::LowPass,
+            alignment: Alignment::Butterworth,
+            order,
+            band: Band::Cutoff(fc),
+            source_resistance: rs,
+            load_resistance: rl,
+            load_capacitance: None,
+        }
+    }
+
+    #[test]
+    fn best_assignments_enumerates_in_cost_order() {
+        let lists = vec![vec![(0.0, ()), (1.0, ()), (5.0, ())], vec![(0.5, ()), (0.7, ())], vec![(0.1, ()), (3.0, ())]];
+        let got = best_assignments(&lists, 12);
+        // Brute force over all 12 assignments.
+        let mut all = Vec::new();
+        for a in 0..3 {
+            for b in 0..2 {
+                for c in 0..2 {
+                    all.push((lists[0][a].0 + lists[1][b].0 + lists[2][c].0, vec![a, b, c]));
+                }
+            }
+        }
+        all.sort_by(|x, y| x.0.total_cmp(&y.0));
+        let got_costs: Vec<f64> = got.iter().map(|g| g.0).collect();
+        let want_costs: Vec<f64> = all.iter().map(|g| g.0).collect();
+        assert_eq!(got_costs, want_costs);
+    }
+
+    #[test]
+    fn rc_lowpass_fit_is_the_brute_force_optimum() {
+        // Small sets so brute force is cheap: E6 resistors in 1k..10k, E12 capacitors.
+        let mut opts = options(parts(Series::E6, Series::E12, Series::E12), Combine::Single);
+        opts.resistor_range = (1e3, 1e4);
+        for (fc, rs, rl) in [(1234.0, 50.0, Some(1e5)), (777.0, 0.0, None), (15_900.0, 600.0, Some(22e3))] {
+            let req = lowpass(1, fc, rs, rl);
+            let result = fit(&req, Topology::Rc, &opts).unwrap();
+            let best = &result.alternatives[0];
+            let mut brute = f64::INFINITY;
+            for r in opts.parts.resistors.values_between(1e3, 1e4) {
+                for c in opts.parts.capacitors.values_between(1e-13, 1e-2) {
+                    let f = first_order_cutoff(Topology::Rc, ResponseType::LowPass, rs, r, c, &req);
+                    brute = brute.min(((f - fc) / fc).abs());
+                }
+            }
+            assert!((best.objective - brute).abs() <= 1e-15, "fc {fc}: fit {} vs brute {brute}", best.objective);
+            // The closed form agrees with the MNA sweep of the fitted design.
+            // Swept from fc/1e4 so the low-end reference is within 1e-8 of the DC gain.
+            let measured =
+                crate::measure::measure(&sweep_design(&best.design, (fc / 1e4, fc * 100.0)).unwrap()).unwrap();
+            let corner = measured.corners[0].f_hz;
+            assert!((corner / best.achieved.cutoff_hz.unwrap() - 1.0).abs() < 1e-6, "{corner} vs {:?}", best.achieved);
+        }
+    }
+
+    #[test]
+    fn rlc_bandpass_fit_is_the_brute_force_optimum() {
+        let mut opts = options(parts(Series::E12, Series::E6, Series::E6), Combine::Single);
+        opts.resistor_range = (10.0, 1e3);
+        let req = Requirement {
+            response: ResponseType::BandPass,
+            alignment: Alignment::Quality { q: 5.0 },
+            order: 2,
+            band: Band::Cutoff(10e3),
+            source_resistance: 10.0,
+            load_resistance: Some(50.0),
+            load_capacitance: None,
+        };
+        let result = fit(&req, Topology::Rlc, &opts).unwrap();
+        let best = result.alternatives[0].objective;
+        let mut brute = f64::INFINITY;
+        let w0 = 2.0 * PI * 10e3;
+        for l in opts.parts.inductors.values_between(10.0 / w0, 1e3 / w0) {
+            for c in opts.parts.capacitors.values_between(1e-12, 1e-3) {
+                let mut rs_options = vec![0.0];
+                rs_options.extend(opts.parts.resistors.values_between(1e-3, 1e3));
+                for r in rs_options {
+                    let (f, q) = rlc_figures(req.response, l, c, 10.0 + r, &req);
+                    brute = brute.min(relative_error(f, 10e3).hypot(relative_error(q, 5.0)));
+                }
+            }
+        }
+        assert!((best - brute).abs() <= 1e-12 * brute.max(1.0), "fit {best} vs brute {brute}");
+    }
+
+    #[test]
+    fn rc_with_high_q_is_refused() {
+        let opts = options(parts(Series::E96, Series::E12, Series::E12), Combine::Single);
+        let error = fit(&lowpass(2, 1e3, 0.0, None), Topology::Rc, &opts).unwrap_err();
+        assert!(error.to_string().contains("cannot exceed Q = 0.5"), "{error}");
+    }
+
+    #[test]
+    fn rlc_closed_forms_match_the_mna_poles() {
+        // The closed-form (f0, Q) of each form against the pole pair found by the modal solver.
+        let req = Requirement {
+            response: ResponseType::LowPass,
+            alignment: Alignment::Quality { q: 0.9 },
+            order: 2,
+            band: Band::Cutoff(1e3),
+            source_resistance: 47.0,
+            load_resistance: Some(1e3),
+            load_capacitance: Some(1e-8),
+        };
+        let opts = options(parts(Series::E96, Series::E12, Series::E12), Combine::Single);
+        for response in [ResponseType::LowPass, ResponseType::HighPass, ResponseType::BandPass, ResponseType::BandStop]
+        {
+            let req = Requirement {
+                response,
+                load_capacitance: if response == ResponseType::LowPass { req.load_capacitance } else { None },
+                ..req.clone()
+            };
+            let (l, c, r) = (10e-3, 2.2e-6, 33.0);
+            let design = rlc_design(&req, &opts, &single(l), &single(c), Some(&single(r)));
+            let (circuit, probe) = design.to_circuit().unwrap();
+            let mut system = AcSystem::new(&circuit, &probe);
+            let poles = crate::modal::Modal::new(&mut system).unwrap().poles();
+            let pair = poles.iter().find(|p| p.im > 0.0).copied().unwrap_or_else(|| poles[0]);
+            let (f0, q) = rlc_figures(response, l, c, 47.0 + r, &req);
+            let (f0_poles, q_poles) = (pair.norm() / (2.0 * PI), pair.norm() / (2.0 * pair.re.abs()));
+            if pair.im > 0.0 {
+                assert!(
+                    (f0 / f0_poles - 1.0).abs() < 1e-9 && (q / q_poles - 1.0).abs() < 1e-9,
+                    "{response:?}: {f0} {q} vs {f0_poles} {q_poles}"
+                );
+            }
+        }
+    }
+}
