@@ -53,22 +53,22 @@ pub struct FitArgs {
     #[arg(long, value_name = "N")]
     pub order: Option<String>,
     /// Cutoff frequency (low-pass, high-pass).
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub cutoff: Option<String>,
     /// Natural frequency of a second-order section (with --q).
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub f0: Option<String>,
     /// Pole Q of a second-order section (with --f0).
-    #[arg(long, value_name = "Q")]
+    #[arg(long, value_name = "Q", allow_hyphen_values = true)]
     pub q: Option<String>,
     /// Lower band edge (band-pass, band-stop).
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub low: Option<String>,
     /// Upper band edge (band-pass, band-stop).
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub high: Option<String>,
     /// Source resistance (0 for an ideal source).
-    #[arg(long, value_name = "R", default_value = "0")]
+    #[arg(long, value_name = "R", default_value = "0", allow_hyphen_values = true)]
     pub source: String,
     /// Load resistance, or "open".
     #[arg(long, value_name = "R", default_value = "open")]
@@ -135,10 +135,10 @@ pub enum InfoFormat {
 #[derive(Debug, Args)]
 pub struct GridArgs {
     /// Start frequency, e.g. 10, 1k, 2.5MHz [default: two decades below the circuit's lowest corner].
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub from: Option<String>,
     /// Stop frequency, e.g. 100k [default: two decades above the circuit's highest corner].
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub to: Option<String>,
     /// Total number of log-spaced points, both ends included.
     #[arg(long, value_name = "N", conflicts_with = "per_decade")]
@@ -173,7 +173,7 @@ pub struct InfoArgs {
     #[command(flatten)]
     pub grid: GridArgs,
     /// Also report the attenuation at this frequency (repeatable), e.g. --at 10k.
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub at: Vec<String>,
     /// Output format.
     #[arg(long, value_enum, default_value = "table")]

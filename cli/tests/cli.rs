@@ -201,3 +201,168 @@ fn cautions_are_printed() {
     assert_eq!(code, 0);
     assert!(stdout.contains("hazardous voltages") && stdout.contains("voltage rating"));
 }
+
+/// Runs `fit` with the arguments and returns the parsed JSON.
+fn fit_json(args: &[&str]) -> serde_json::Value {
+    let mut all = vec!["fit", "--format", "json"];
+    all.extend_from_slice(args);
+    let (code, stdout, stderr) = run(&all);
+    assert_eq!(code, 0, "{args:?}: {stderr}");
+    serde_json::from_str(&stdout).unwrap()
+}
+
+fn check_fit_rejected(args: &[&str], expected: &str) {
+    let mut all = vec!["fit"];
+    all.extend_from_slice(args);
+    let (code, _, stderr) = run(&all);
+    assert_eq!(code, 2, "{args:?}: {stderr}");
+    assert!(!stderr.contains("panicked"), "{stderr}");
+    assert!(stderr.contains(expected), "{args:?}: {stderr:?} lacks {expected:?}");
+}
+
+#[test]
+fn fit_json_has_the_documented_shape() {
+    let value = fit_json(&[
+        "--response",
+        "lowpass",
+        "--alignment",
+        "butterworth",
+        "--order",
+        "5",
+        "--cutoff",
+        "10M",
+        "--source",
+        "50",
+        "--load",
+        "50",
+        "--topology",
+        "ladder",
+        "--first",
+        "shunt",
+        "--capacitors",
+        "E12",
+        "--inductors",
+        "E12",
+        "--combine",
+        "--alternatives",
+        "3",
+    ]);
+    let alternatives = value["alternatives"].as_array().unwrap();
+    assert_eq!(alternatives.len(), 3);
+    for a in alternatives {
+        let parts = a["parts"].as_array().unwrap();
+        assert_eq!(parts.len(), 5);
+        for p in parts {
+            for key in ["ref", "kind", "ideal_value", "chosen_value", "chosen_parts", "deviation_pct"] {
+                assert!(!p[key].is_null(), "{key} in {p}");
+            }
+            let n = p["chosen_parts"].as_array().unwrap().len();
+            assert!(n == 1 || n == 2);
+        }
+        assert!(a["achieved"]["cutoff_hz"].as_f64().unwrap() > 0.0);
+        assert!(a["max_response_deviation_db"].as_f64().unwrap() >= 0.0);
+    }
+    // Best first.
+    let deviations: Vec<f64> = alternatives.iter().map(|a| a["max_response_deviation_db"].as_f64().unwrap()).collect();
+    assert!(deviations.windows(2).all(|w| w[0] <= w[1]), "{deviations:?}");
+}
+
+#[test]
+fn fit_save_writes_a_design_that_sweep_reads() {
+    let saved = write_temp("saved.json", "");
+    let (code, _, stderr) = run(&[
+        "fit",
+        "--response",
+        "highpass",
+        "--order",
+        "3",
+        "--cutoff",
+        "2k",
+        "--source",
+        "600",
+        "--load",
+        "600",
+        "--save",
+        saved.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stderr}");
+    let (code, stdout, stderr) =
+        run(&["info", saved.to_str().unwrap(), "--format", "json", "--from", "20", "--to", "200k"]);
+    assert_eq!(code, 0, "{stderr}");
+    let info: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+    // A Butterworth high-pass fitted to E12 parts: its -3 dB point lands within 10 % of 2 kHz.
+    let corner = info["corners_hz"][0].as_f64().unwrap();
+    assert!((corner / 2000.0 - 1.0).abs() < 0.1, "{corner}");
+}
+
+#[test]
+fn fit_rc_and_rlc_report_their_figures() {
+    let rc = fit_json(&["--order", "1", "--cutoff", "1k", "--topology", "rc", "--source", "100", "--load", "1M"]);
+    let cutoff = rc["alternatives"][0]["achieved"]["cutoff_hz"].as_f64().unwrap();
+    assert!((cutoff / 1000.0 - 1.0).abs() < 0.01, "{cutoff}");
+    let rlc = fit_json(&[
+        "--response",
+        "bandpass",
+        "--f0",
+        "40k",
+        "--q",
+        "5",
+        "--source",
+        "50",
+        "--load",
+        "100",
+        "--topology",
+        "rlc",
+    ]);
+    let best = &rlc["alternatives"][0]["achieved"];
+    assert!((best["f0_hz"].as_f64().unwrap() / 40e3 - 1.0).abs() < 0.05);
+    assert!((best["q"].as_f64().unwrap() / 5.0 - 1.0).abs() < 0.05);
+}
+
+#[test]
+fn fit_with_a_stock_list() {
+    let stock = write_temp("coils.txt", "# my drawer of air-core coils\n0.33m\n0.47m\n0.68m\n1mH\n1.5m\n");
+    let value = fit_json(&[
+        "--order",
+        "2",
+        "--cutoff",
+        "2k",
+        "--topology",
+        "rlc",
+        "--load",
+        "8",
+        "--inductors",
+        stock.to_str().unwrap(),
+        "--capacitors",
+        "E6",
+    ]);
+    let inductor =
+        value["alternatives"][0]["parts"].as_array().unwrap().iter().find(|p| p["kind"] == "inductor").unwrap().clone();
+    let chosen = inductor["chosen_value"].as_f64().unwrap();
+    assert!([0.33e-3, 0.47e-3, 0.68e-3, 1e-3, 1.5e-3].iter().any(|v| (v / chosen - 1.0).abs() < 1e-9), "{chosen}");
+    assert_eq!(inductor["series"], "coils");
+}
+
+#[test]
+fn impossible_requirements_are_named() {
+    check_fit_rejected(&["--order", "2", "--cutoff", "1k", "--topology", "rc"], "cannot exceed Q = 0.5");
+    check_fit_rejected(&["--order", "0", "--cutoff", "1k"], "order 0");
+    check_fit_rejected(&["--order", "9", "--cutoff", "1k", "--source", "50", "--load", "50"], "order 9");
+    check_fit_rejected(&["--order", "3", "--cutoff", "0"], "--cutoff 0: give a frequency above 0 Hz");
+    check_fit_rejected(&["--order", "3", "--cutoff", "-5k"], "give a frequency above 0 Hz");
+    check_fit_rejected(
+        &["--order", "4", "--cutoff", "1k", "--source", "50", "--load", "25", "--first", "series"],
+        "cannot be synthesized",
+    );
+    let empty = write_temp("empty.txt", "# nothing here yet\n\n");
+    check_fit_rejected(
+        &["--order", "3", "--cutoff", "1k", "--source", "50", "--load", "50", "--inductors", empty.to_str().unwrap()],
+        "stock list",
+    );
+    check_fit_rejected(&["--order", "3", "--cutoff", "1k", "--capacitors", "E7"], "not an E-series name");
+    check_fit_rejected(&["--order", "3", "--cutoff", "1k", "--q", "2"], "--q goes with --f0");
+    check_fit_rejected(
+        &["--order", "4", "--alignment", "linkwitz-riley", "--cutoff", "1k", "--source", "8", "--load", "8"],
+        "not available",
+    );
+}

@@ -11,8 +11,12 @@
 //!   source resistance, load resistance and (for the RC low-pass) load capacitance.
 //! - **RLC second-order sections** (low-pass, high-pass, band-pass, notch; series input form).
 //!   Every single inductor value whose characteristic impedance ω0·L lies in the resistor range is
-//!   tried; for each, every capacitor candidate within a factor of 4 of its ideal value; for each
-//!   of those, the resistor candidates nearest the resistance that gives the exact Q. The
+//!   tried; for each, every capacitor candidate within a factor of 4 of an exact solution, of the
+//!   value that gives f0 with no resistor, and of the value for the largest series resistance
+//!   (R_t ≤ R_s + 10·R_L with a load: about 21 dB of insertion loss at most); for each of those,
+//!   no resistor, and every resistor candidate within a factor of 4 of each resistance that gives
+//!   the exact Q (Q need not be monotone in R), or every resistor in range when no R gives the
+//!   exact Q (explicit resistors start at a hundredth of the range's low end). The
 //!   objective is √(e_f0² + e_Q²) with relative errors, in closed form including Rs, RL and (low-pass)
 //!   the load capacitance.
 //! - **LC ladders.** Terminations are fixed by the requirement, so each element has one ideal
@@ -230,6 +234,14 @@ pub fn fit(requirement: &Requirement, topology: Topology, options: &FitOptions) 
 }
 
 fn validate(requirement: &Requirement, options: &FitOptions) -> Result<(), SynthesisError> {
+    if !(1..=crate::prototype::MAX_ORDER).contains(&requirement.order) {
+        return Err(SynthesisError::BadOrder {
+            order: requirement.order,
+            min: 1,
+            max: crate::prototype::MAX_ORDER,
+            why: "orders 1 to 8 are supported",
+        });
+    }
     let rs = requirement.source_resistance;
     if !(rs.is_finite() && rs >= 0.0) {
         return Err(SynthesisError::BadValue { what: "source resistance", value: rs });
@@ -601,39 +613,43 @@ fn rlc_figures(response: ResponseType, l: f64, c: f64, rt: f64, req: &Requiremen
     ((cc / a).sqrt() / (2.0 * PI), (a * cc).sqrt() / b)
 }
 
-/// The ideal C and total series resistance for inductor `l`, or `None` if the form cannot reach
-/// (f0, Q) with it.
-fn rlc_ideal(response: ResponseType, l: f64, f0: f64, q: f64, req: &Requirement) -> Option<(f64, f64)> {
+/// The ideal C and total series resistance for inductor `l`: every solution (the low-pass form
+/// can have two), empty if the form cannot reach (f0, Q) with this inductor.
+fn rlc_ideals(response: ResponseType, l: f64, f0: f64, q: f64, req: &Requirement) -> Vec<(f64, f64)> {
     let w = 2.0 * PI * f0;
     let g = req.load_resistance.map_or(0.0, |r| 1.0 / r);
     let cl = req.load_capacitance.unwrap_or(0.0);
-    let (c, rt) = match response {
-        ResponseType::BandPass => {
-            let rl = req.load_resistance?;
-            (1.0 / (w * w * l), w * l / q - rl)
-        }
-        ResponseType::BandStop => (1.0 / (w * w * l), w * l / (q - g * w * l)),
+    let solutions: Vec<(f64, f64)> = match response {
+        ResponseType::BandPass => match req.load_resistance {
+            Some(rl) => vec![(1.0 / (w * w * l), w * l / q - rl)],
+            None => vec![],
+        },
+        ResponseType::BandStop => vec![(1.0 / (w * w * l), w * l / (q - g * w * l))],
         ResponseType::HighPass => {
             let x = g * l * w;
             let rt = w * l * (1.0 - q * x) / (q * (1.0 + x * x) - x);
-            (1.0 / (w * w * l * (1.0 + rt * g)), rt)
+            vec![(1.0 / (w * w * l * (1.0 + rt * g)), rt)]
         }
         ResponseType::LowPass => {
             // q·g·R² + R·(q − g·w·L) + (q·g·w²·L² − w·L) = 0
             let (qa, qb, qc) = (q * g, q - g * w * l, q * g * w * w * l * l - w * l);
-            let rt = if qa == 0.0 {
-                -qc / qb
+            let roots = if qa == 0.0 {
+                vec![-qc / qb]
             } else {
                 let disc = qb * qb - 4.0 * qa * qc;
                 if disc < 0.0 {
-                    return None;
+                    vec![]
+                } else {
+                    vec![(-qb + disc.sqrt()) / (2.0 * qa), (-qb - disc.sqrt()) / (2.0 * qa)]
                 }
-                (-qb + disc.sqrt()) / (2.0 * qa)
             };
-            ((1.0 + rt * g) / (w * w * l) - cl, rt)
+            roots.into_iter().map(|rt| ((1.0 + rt * g) / (w * w * l) - cl, rt)).collect()
         }
     };
-    (c.is_finite() && c > 0.0 && rt.is_finite() && rt >= req.source_resistance).then_some((c, rt))
+    solutions
+        .into_iter()
+        .filter(|&(c, rt)| c.is_finite() && c > 0.0 && rt.is_finite() && rt >= req.source_resistance)
+        .collect()
 }
 
 fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult, SynthesisError> {
@@ -648,8 +664,13 @@ fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult
                 });
             }
             let fc = cutoff_of(req)?;
-            match target_sections(req)?.first() {
-                Some(Section::SecondOrder { omega0, q }) => (fc * omega0, *q),
+            match (req.alignment, target_sections(req)?.as_slice()) {
+                (Alignment::Quality { q }, _) => (fc, q),
+                (_, [Section::SecondOrder { omega0, q }]) => (fc * omega0, *q),
+                // Two real poles (Q ≤ 0.5): ω0 = √(ω1·ω2), Q = √(ω1·ω2)/(ω1 + ω2).
+                (_, [Section::FirstOrder { omega: a }, Section::FirstOrder { omega: b }]) => {
+                    (fc * (a * b).sqrt(), (a * b).sqrt() / (a + b))
+                }
                 _ => return Err(SynthesisError::BadOrder { order: 2, min: 2, max: 2, why: "no second-order section" }),
             }
         }
@@ -689,28 +710,53 @@ fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult
     let terminations = [Some(rs).filter(|r| *r > 0.0), req.load_resistance].into_iter().flatten();
     let z_low = terminations.fold(r_lo, |z, r| z.min(r / 100.0));
     let inductors = options.parts.inductors.values_between(z_low / w0, r_hi / w0);
+    // The series resistance is bounded: with a load, R_t ≤ R_s + 10·R_L (at most about 21 dB of
+    // insertion loss); without one, the resistor range.
+    let r_top = req.load_resistance.map_or(r_hi, |rl| r_hi.min(10.0 * rl));
     let mut scored: Vec<(f64, Choice, Choice, Option<Choice>)> = Vec::new();
     for &l in &inductors {
-        let Some((c_ideal, _)) = rlc_ideal(req.response, l, f0, q, req) else { continue };
-        for c in
-            candidates(&options.parts.capacitors, c_ideal / 4.0, c_ideal * 4.0, options.combine, PartKind::Capacitive)
-        {
-            // The R that gives the exact Q with this L and C, by bisection on the monotone Q(R_t).
-            let q_of = |rt: f64| rlc_figures(req.response, l, c.value, rt, req).1;
-            let r_candidates: Vec<Option<Choice>> = match exact_series_resistance(q_of, q, rs, r_hi) {
-                Some(rt) if rt - rs < r_lo / 100.0 => vec![None],
-                Some(rt) => {
-                    let mut list: Vec<Option<Choice>> =
-                        nearest_choices(&options.parts.resistors, rt - rs, options.combine, PartKind::Additive, 3)
-                            .into_iter()
-                            .map(Some)
-                            .collect();
-                    list.push(None);
-                    list
+        // Capacitor windows (a factor of 4 either way) around each exact solution, around the value
+        // that gives f0 with no resistor, and around the value for the largest resistance.
+        let g = req.load_resistance.map_or(0.0, |r| 1.0 / r);
+        let c_for = |rt: f64| match req.response {
+            ResponseType::LowPass => (1.0 + rt * g) / (w0 * w0 * l) - req.load_capacitance.unwrap_or(0.0),
+            ResponseType::HighPass => 1.0 / (w0 * w0 * l * (1.0 + rt * g)),
+            ResponseType::BandPass | ResponseType::BandStop => 1.0 / (w0 * w0 * l),
+        };
+        let mut centres: Vec<f64> = rlc_ideals(req.response, l, f0, q, req).into_iter().map(|(c, _)| c).collect();
+        centres.push(c_for(rs));
+        centres.push(c_for(rs + r_top));
+        let mut capacitors: Vec<Choice> = Vec::new();
+        for centre in centres.into_iter().filter(|c| c.is_finite() && *c > 0.0) {
+            for c in
+                candidates(&options.parts.capacitors, centre / 4.0, centre * 4.0, options.combine, PartKind::Capacitive)
+            {
+                if !capacitors.iter().any(|k| k.value == c.value && k.parts == c.parts) {
+                    capacitors.push(c);
                 }
-                None => vec![None],
+            }
+        }
+        for c in capacitors {
+            // Resistors: none, and every candidate within a factor of 4 of the resistance that
+            // gives the exact Q with this L and C (or of the best reachable one).
+            let q_of = |rt: f64| rlc_figures(req.response, l, c.value, rt, req).1;
+            let mut resistors: Vec<Option<Choice>> = vec![None];
+            let centres = resistance_centres(q_of, q, rs, r_top, r_lo / 100.0);
+            // Without an exact root (only the closest scan point came back), the best R trades Q
+            // against f0, so every single value in range is tried.
+            let windows: Vec<(f64, f64)> = if centres.len() == 1 {
+                vec![(r_lo / 100.0, r_top - rs)]
+            } else {
+                centres.iter().map(|&c| (c / 4.0, (c * 4.0).min(r_top - rs))).collect()
             };
-            for r in r_candidates {
+            for (low, high) in windows {
+                for r in candidates(&options.parts.resistors, low, high, options.combine, PartKind::Additive) {
+                    if !resistors.iter().flatten().any(|k| k.value == r.value && k.parts == r.parts) {
+                        resistors.push(Some(r));
+                    }
+                }
+            }
+            for r in resistors {
                 let rt = rs + r.as_ref().map_or(0.0, |r| r.value);
                 let (f_a, q_a) = rlc_figures(req.response, l, c.value, rt, req);
                 let objective = relative_error(f_a, f0).hypot(relative_error(q_a, q));
@@ -733,7 +779,11 @@ fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult
     for (objective, l, c, r) in scored.into_iter().take(options.alternatives) {
         let rt = rs + r.as_ref().map_or(0.0, |r| r.value);
         let (f_a, q_a) = rlc_figures(req.response, l.value, c.value, rt, req);
-        let (c_id, rt_id) = rlc_ideal(req.response, l.value, f0, q, req).unwrap_or((c.value, rt));
+        // The ideal solution for this inductor nearest the chosen capacitor.
+        let (c_id, rt_id) = rlc_ideals(req.response, l.value, f0, q, req)
+            .into_iter()
+            .min_by(|a, b| (a.0 / c.value).ln().abs().total_cmp(&(b.0 / c.value).ln().abs()))
+            .unwrap_or((c.value, rt));
         // The ideal circuit with this alternative's inductor, so the deviation is the cost of
         // rounding alone.
         let r_id = rt_id - rs;
@@ -771,23 +821,38 @@ fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult
     })
 }
 
-/// The total series resistance R_t ∈ [rs, rs + r_max] giving Q = `target` when Q(R_t) is
-/// monotone, by bisection; `None` if the target is outside the reachable range.
-fn exact_series_resistance(q_of: impl Fn(f64) -> f64, target: f64, rs: f64, r_max: f64) -> Option<f64> {
-    let (mut lo, mut hi) = (rs, rs + r_max);
-    let (q_lo, q_hi) = (q_of(lo) - target, q_of(hi) - target);
-    if !(q_lo.is_finite() || q_lo == f64::INFINITY) || q_lo.signum() == q_hi.signum() {
-        return if q_lo.abs() < q_hi.abs() { Some(lo) } else { None };
-    }
-    for _ in 0..100 {
-        let mid = 0.5 * (lo + hi);
-        if (q_of(mid) - target).signum() == q_lo.signum() {
-            lo = mid;
-        } else {
-            hi = mid;
+/// Resistances R (not counting R_s) around which to search: every R with Q(R_s + R) = `target`
+/// (Q need not be monotone in R, so a log scan of 96 points from `r_min` to `r_top` brackets each
+/// root before bisection), and the scan point with the smallest |Q − target|.
+fn resistance_centres(q_of: impl Fn(f64) -> f64, target: f64, rs: f64, r_top: f64, r_min: f64) -> Vec<f64> {
+    const SCAN: usize = 96;
+    let r_top = (r_top - rs).max(r_min * 1.0001);
+    let ratio = (r_top / r_min).ln();
+    let grid: Vec<f64> = (0..SCAN).map(|i| r_min * (ratio * i as f64 / (SCAN - 1) as f64).exp()).collect();
+    let error: Vec<f64> = grid.iter().map(|&r| q_of(rs + r) - target).collect();
+    let mut centres = Vec::new();
+    for i in 0..SCAN - 1 {
+        if error[i] == 0.0 {
+            centres.push(grid[i]);
+        } else if error[i].is_finite() && error[i + 1].is_finite() && error[i].signum() != error[i + 1].signum() {
+            let (mut lo, mut hi) = (grid[i], grid[i + 1]);
+            for _ in 0..80 {
+                let mid = (lo * hi).sqrt();
+                if (q_of(rs + mid) - target).signum() == error[i].signum() {
+                    lo = mid;
+                } else {
+                    hi = mid;
+                }
+            }
+            centres.push((lo * hi).sqrt());
         }
     }
-    Some(0.5 * (lo + hi))
+    if let Some(best) =
+        (0..SCAN).filter(|&i| error[i].is_finite()).min_by(|&a, &b| error[a].abs().total_cmp(&error[b].abs()))
+    {
+        centres.push(grid[best]);
+    }
+    centres
 }
 
 fn rlc_design(req: &Requirement, options: &FitOptions, l: &Choice, c: &Choice, r: Option<&Choice>) -> Design {
@@ -921,14 +986,16 @@ fn fit_ladder(req: &Requirement, first: FirstElement, options: &FitOptions) -> R
         }
         design.note = format!("{} Parts fitted by Bandwright.", ideal.note);
         let deviation = max_deviation_db(&design, &ideal_response, band)?;
-        let achieved_cutoff = target_cutoff.and_then(|fc| achieved_corner(&design, &ideal_response, fc, band));
-        ranked.push((deviation, log_error, parts, design, achieved_cutoff));
+        ranked.push((deviation, log_error, parts, design));
     }
     ranked.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.total_cmp(&b.1)));
     let alternatives = ranked
         .into_iter()
         .take(options.alternatives)
-        .map(|(deviation, _, parts, design, achieved_cutoff)| Alternative {
+        .map(|(deviation, _, parts, design)| {
+            (deviation, parts, target_cutoff.and_then(|fc| achieved_corner(&design, &ideal_response, fc, band)), design)
+        })
+        .map(|(deviation, parts, achieved_cutoff, design)| Alternative {
             parts,
             achieved: Figures { cutoff_hz: achieved_cutoff, ..Figures::default() },
             cutoff_error_pct: achieved_cutoff.zip(target_cutoff).map(|(a, t)| 100.0 * relative_error(a, t)),
@@ -1162,6 +1229,94 @@ mod tests {
             }
         }
         assert!((best - brute).abs() <= 1e-12 * brute.max(1.0), "fit {best} vs brute {brute}");
+    }
+
+    fn brute_force_rc(req: &Requirement, opts: &FitOptions) -> f64 {
+        let fc = match req.band {
+            Band::Cutoff(f) => f,
+            _ => unreachable!(),
+        };
+        let mut brute = f64::INFINITY;
+        for r in opts.parts.resistors.values_between(opts.resistor_range.0, opts.resistor_range.1) {
+            for c in opts.parts.capacitors.values_between(1e-15, 1.0) {
+                let f = first_order_cutoff(Topology::Rc, req.response, req.source_resistance, r, c, req);
+                brute = brute.min(((f - fc) / fc).abs());
+            }
+        }
+        brute
+    }
+
+    fn brute_force_rlc(req: &Requirement, opts: &FitOptions, f0: f64, q: f64) -> f64 {
+        let mut brute = f64::INFINITY;
+        let w0 = 2.0 * PI * f0;
+        let z_low = [Some(req.source_resistance).filter(|r| *r > 0.0), req.load_resistance]
+            .into_iter()
+            .flatten()
+            .fold(opts.resistor_range.0, |z, r| z.min(r / 100.0));
+        // The stated domain: R_t ≤ R_s + 10·R_L with a load.
+        let r_top = req.load_resistance.map_or(opts.resistor_range.1, |rl| opts.resistor_range.1.min(10.0 * rl));
+        let mut resistors = vec![0.0];
+        // Explicit resistors start at a hundredth of the resistor range's low end.
+        resistors
+            .extend(opts.parts.resistors.values_between(opts.resistor_range.0 / 100.0, r_top - req.source_resistance));
+        for l in opts.parts.inductors.values_between(z_low / w0, opts.resistor_range.1 / w0) {
+            for c in opts.parts.capacitors.values_between(1e-15, 1.0) {
+                for &r in &resistors {
+                    let (f, q_a) = rlc_figures(req.response, l, c, req.source_resistance + r, req);
+                    let objective = relative_error(f, f0).hypot(relative_error(q_a, q));
+                    if objective.is_finite() {
+                        brute = brute.min(objective);
+                    }
+                }
+            }
+        }
+        brute
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(24))]
+
+        // For random targets the reported best equals the brute-force optimum of the stated
+        // objective over every resistor in range and every capacitor of the series.
+        #[test]
+        fn rc_fit_matches_brute_force(fc in 10.0f64..1e6, rs in 0.0f64..2e3, rl in proptest::option::of(2e4f64..1e7),
+                                      highpass in proptest::bool::ANY) {
+            let mut opts = options(parts(Series::E12, Series::E12, Series::E12), Combine::Single);
+            opts.resistor_range = (1e3, 1e5);
+            let req = Requirement {
+                response: if highpass { ResponseType::HighPass } else { ResponseType::LowPass },
+                ..lowpass(1, fc, rs, rl)
+            };
+            let result = fit(&req, Topology::Rc, &opts).unwrap();
+            let brute = brute_force_rc(&req, &opts);
+            proptest::prop_assert!((result.alternatives[0].objective - brute).abs() <= 1e-13, "{} vs {brute}", result.alternatives[0].objective);
+        }
+
+        #[test]
+        fn rlc_fit_matches_brute_force(f0 in 100.0f64..1e5, q in 0.3f64..8.0, rs in 0.0f64..50.0, rl in 20.0f64..2e3,
+                                       form in 0usize..4) {
+            let response = [ResponseType::LowPass, ResponseType::HighPass, ResponseType::BandPass, ResponseType::BandStop][form];
+            let mut opts = options(parts(Series::E12, Series::E6, Series::E6), Combine::Single);
+            opts.resistor_range = (10.0, 1e4);
+            let req = Requirement {
+                response,
+                alignment: Alignment::Quality { q },
+                order: 2,
+                band: Band::Cutoff(f0),
+                source_resistance: rs,
+                load_resistance: Some(rl),
+                load_capacitance: None,
+            };
+            match fit(&req, Topology::Rlc, &opts) {
+                Ok(result) => {
+                    let brute = brute_force_rlc(&req, &opts, f0, q);
+                    let best = result.alternatives[0].objective;
+                    proptest::prop_assert!(best <= brute * (1.0 + 1e-9) + 1e-12, "{response:?}: fit {best} vs brute {brute}");
+                }
+                Err(SynthesisError::NoCandidates { .. }) => {}
+                Err(other) => proptest::prop_assert!(false, "{other}"),
+            }
+        }
     }
 
     #[test]

@@ -2,9 +2,9 @@
 //!
 //! Formulation (Ho, Ruehli & Brennan, "The modified nodal approach to network analysis", IEEE
 //! Trans. Circuits and Systems 22(6), 1975): unknowns are the voltages of the non-ground nodes plus
-//! one branch current for each inductor, ideal voltage source and controlled-source output. A
-//! Thevenin source with a series resistance is stamped as its Norton equivalent, so it needs no
-//! branch current. Inductors use a branch current, so a circuit with inductors stays solvable at
+//! one branch current for each inductor, voltage source and controlled-source output. A Thevenin
+//! source keeps its series resistance inside its branch equation V(a) − V(b) − R_s·I = EMF, so
+//! the current it delivers is a solution variable, not a difference of nearly equal voltages. Inductors use a branch current, so a circuit with inductors stays solvable at
 //! 0 Hz (an inductor is then a short, not an infinite admittance).
 //!
 //! Each frequency gives Y(ω)·x = b. The group delay needs dx/dω, which follows exactly from
@@ -265,23 +265,15 @@ impl AcSystem {
                     push(Some(k), Some(k), 1.0, StampValue::InductorBranch { inductance, dcr });
                 }
                 ElementKind::VoltageSource { emf, series_resistance } => {
+                    // Branch equation V(a) − V(b) − R_s·I = EMF. A branch current (rather than a
+                    // Norton equivalent) keeps the delivered current exact when |Z_in| ≫ R_s.
+                    let k = provisional_branch[index].expect("voltage source has a branch");
+                    incidence(k, &mut push);
                     if series_resistance > 0.0 {
-                        admittance(StampValue::Real(1.0 / series_resistance), &mut push);
-                        if is_stimulus {
-                            let injected = Complex64::new(emf / series_resistance, 0.0);
-                            if let Some(a) = a {
-                                rhs.push((a, injected));
-                            }
-                            if let Some(b) = b {
-                                rhs.push((b, -injected));
-                            }
-                        }
-                    } else {
-                        let k = provisional_branch[index].expect("ideal source has a branch");
-                        incidence(k, &mut push);
-                        if is_stimulus {
-                            rhs.push((k, Complex64::new(emf, 0.0)));
-                        }
+                        push(Some(k), Some(k), 1.0, StampValue::Real(-series_resistance));
+                    }
+                    if is_stimulus {
+                        rhs.push((k, Complex64::new(emf, 0.0)));
                     }
                 }
                 ElementKind::CurrentSource { current } => {
@@ -435,14 +427,8 @@ impl AcSystem {
         let mut port_current = vec![0.0; n];
         let mut port_current_offset = 0.0;
         match stimulus.kind {
-            ElementKind::VoltageSource { emf, series_resistance } if series_resistance > 0.0 => {
-                for (current, voltage) in port_current.iter_mut().zip(&port_voltage) {
-                    *current = -voltage / series_resistance;
-                }
-                port_current_offset = emf / series_resistance;
-            }
             ElementKind::VoltageSource { .. } => {
-                let k = self.branch_slot[self.probe.stimulus].expect("ideal source has a branch");
+                let k = self.branch_slot[self.probe.stimulus].expect("voltage source has a branch");
                 port_current[k] = -1.0;
             }
             ElementKind::CurrentSource { current } => port_current_offset = current,
@@ -503,8 +489,18 @@ impl AcSystem {
         let transfer_derivative = dv_out / amplitude;
 
         let stimulus_state = self.element_state(self.probe.stimulus, omega);
-        // The stimulus delivers −I (passive convention) at its terminals.
-        let delivered = -stimulus_state.current;
+        // The stimulus delivers −I (passive convention) at its terminals. When the network's
+        // impedance is much larger than the source resistance, the branch current comes out of
+        // the solve as a small difference (EMF − V)/R_s in disguise; the sum of the currents the
+        // other parts draw from the source's node (KCL) keeps full relative accuracy there.
+        let mut delivered = -stimulus_state.current;
+        if let ElementKind::VoltageSource { series_resistance, .. } = stimulus.kind {
+            if stimulus_state.voltage.norm() > series_resistance * delivered.norm() {
+                if let Some(kcl) = self.current_drawn_from(stimulus.nodes.0, self.probe.stimulus, omega) {
+                    delivered = kcl;
+                }
+            }
+        }
         let input_impedance = if delivered.norm() > 0.0 {
             let z = stimulus_state.voltage / delivered;
             (z.re.is_finite() && z.im.is_finite()).then_some(z)
@@ -524,6 +520,26 @@ impl AcSystem {
         Ok(Solution { f_hz, transfer, transfer_derivative, input_impedance, node_voltages, elements })
     }
 
+    /// The current that the parts other than `except` draw out of `node` (KCL), or `None` for
+    /// ground.
+    fn current_drawn_from(&self, node: Node, except: usize, omega: f64) -> Option<Complex64> {
+        if node.is_ground() {
+            return None;
+        }
+        let mut total = Complex64::new(0.0, 0.0);
+        for (index, element) in self.circuit.elements().iter().enumerate() {
+            if index == except {
+                continue;
+            }
+            if element.nodes.0 == node {
+                total += self.element_state(index, omega).current;
+            } else if element.nodes.1 == node {
+                total -= self.element_state(index, omega).current;
+            }
+        }
+        Some(total)
+    }
+
     /// The state of element `index` from the current solution vector.
     fn element_state(&self, index: usize, omega: f64) -> ElementState {
         let zero = Complex64::new(0.0, 0.0);
@@ -538,15 +554,7 @@ impl AcSystem {
                 voltage * StampValue::Capacitor { capacitance, esr }.at(omega).0
             }
             ElementKind::Inductor { .. } | ElementKind::Vcvs { .. } => branch(),
-            ElementKind::VoltageSource { emf, series_resistance } => {
-                if series_resistance > 0.0 {
-                    let emf = if is_stimulus { emf } else { 0.0 };
-                    // Current into terminal a: (V_ab − EMF) / Rs.
-                    (voltage - emf) / series_resistance
-                } else {
-                    branch()
-                }
-            }
+            ElementKind::VoltageSource { .. } => branch(),
             ElementKind::CurrentSource { current } => Complex64::new(if is_stimulus { -current } else { 0.0 }, 0.0),
         };
         ElementState::new(voltage, current)
@@ -575,11 +583,7 @@ impl StampValue {
 }
 
 fn has_branch(kind: &ElementKind) -> bool {
-    match kind {
-        ElementKind::Inductor { .. } | ElementKind::Vcvs { .. } => true,
-        ElementKind::VoltageSource { series_resistance, .. } => *series_resistance == 0.0,
-        _ => false,
-    }
+    matches!(kind, ElementKind::Inductor { .. } | ElementKind::Vcvs { .. } | ElementKind::VoltageSource { .. })
 }
 
 /// Reverse Cuthill–McKee ordering of `n` unknowns with the given (row, col) pattern.

@@ -217,7 +217,7 @@ pub fn sweep_fast(system: &mut AcSystem, grid: &FrequencyGrid) -> Response {
     let f_hz = grid.frequencies();
     let ends = [f_hz.iter().copied().fold(f64::INFINITY, f64::min), f_hz.iter().copied().fold(0.0, f64::max)];
     match Modal::verified_at(system, &ends) {
-        Ok(modal) => Response::new(f_hz.to_vec(), f_hz.iter().map(|&f| modal.solve_at(f)).collect()),
+        Ok(modal) => Response::new(f_hz.to_vec(), modal.solve_all(f_hz)),
         Err(_) => sweep(system, grid, Detail::Transfer),
     }
 }
