@@ -87,7 +87,7 @@ RC_OBJECTIVE_ATOL = 1e-12
 LADDER_OBJECTIVE_ATOL_DB = 1e-6
 RTOL_SELF_CHECK = 1e-9
 
-# Source: references.md section 1.2 (IEC 60063 via the public transcriptions S1-S4 listed there).
+# Source: references.md section 1.2 (IEC 60063 via the public copies S1-S4 listed there).
 E12 = [1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2]
 E96 = [
     1.00, 1.02, 1.05, 1.07, 1.10, 1.13, 1.15, 1.18, 1.21, 1.24, 1.27, 1.30,

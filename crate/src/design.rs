@@ -475,6 +475,27 @@ mod tests {
         }
     }
 
+    proptest::proptest! {
+        // The same entry point as the fuzz target (tests/fuzz), as a smoke run in every test run:
+        // arbitrary text, and the example with one character replaced, never panic.
+        #[test]
+        fn arbitrary_text_never_panics(text in ".{0,300}") {
+            let _ = parse_design(&text);
+        }
+
+        #[test]
+        fn mutated_example_never_panics(position in 0usize..400, replacement in proptest::char::any()) {
+            let mut chars: Vec<char> = EXAMPLE.chars().collect();
+            let index = position % chars.len();
+            chars[index] = replacement;
+            let text: String = chars.into_iter().collect();
+            if let Ok(design) = parse_design(&text) {
+                let (circuit, probe) = design.to_circuit().expect("a parsed design converts");
+                let _ = crate::mna::AcSystem::new(&circuit, &probe).solve_at(1e3, crate::mna::Detail::Full);
+            }
+        }
+    }
+
     #[test]
     fn round_trip_gives_the_same_circuit() {
         let design = parse_design(EXAMPLE).unwrap();

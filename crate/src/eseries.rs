@@ -7,7 +7,7 @@
 //! # Sources of the tables
 //! The values are those of IEC 60063, "Preferred number series for resistors and capacitors"
 //! (first issued as IEC 63 in 1963). We did not read the standard's own text. Every value of the
-//! tables below was checked against these public transcriptions, as collected in the project's
+//! tables below was checked against these public copies, as collected in the project's
 //! `references.md` §1:
 //! - S1: repository `rob-smallshire/eseries`, `eseries/eseries.py` (dict `_E` and `_TOLERANCE`).
 //! - S2: repository `microentropie/IEC60063`, `src/E3.cpp`, `src/E24.cpp`, `src/E96.cpp` and

@@ -6,17 +6,18 @@
 //!
 //! - **RC and RL first-order sections** (low-pass and high-pass). The impedance level is free:
 //!   every single resistor value in the allowed range is tried, and for each one the reactive part
-//!   takes the candidates nearest its ideal value (singles, and pairs when allowed). The objective
+//!   takes the candidates nearest its ideal value (singles, and pairs when allowed). A series
+//!   resistor into a load is kept at most a tenth of the load resistance. The objective
 //!   is the relative error of the pole (cutoff) frequency, computed in closed form including the
 //!   source resistance, load resistance and (for the RC low-pass) load capacitance.
 //! - **RLC second-order sections** (low-pass, high-pass, band-pass, notch; series input form).
 //!   Every single inductor value whose characteristic impedance ω0·L lies in the resistor range is
-//!   tried; for each, every capacitor candidate within a factor of 4 of an exact solution, of the
+//!   tried; for each, every single capacitor within a factor of 4 of an exact solution, of the
 //!   value that gives f0 with no resistor, and of the value for the largest series resistance
 //!   (R_t ≤ R_s + 10·R_L with a load: about 21 dB of insertion loss at most); for each of those,
-//!   no resistor, and every resistor candidate within a factor of 4 of each resistance that gives
+//!   no resistor, and every single resistor within a factor of 4 of each resistance that gives
 //!   the exact Q (Q need not be monotone in R), or every resistor in range when no R gives the
-//!   exact Q (explicit resistors start at a hundredth of the range's low end). The
+//!   exact Q or when f0 moves with R (low-pass and high-pass with a load) (explicit resistors start at a hundredth of the range's low end). The
 //!   objective is √(e_f0² + e_Q²) with relative errors, in closed form including Rs, RL and (low-pass)
 //!   the load capacitance.
 //! - **LC ladders.** Terminations are fixed by the requirement, so each element has one ideal
@@ -55,6 +56,8 @@ use std::f64::consts::PI;
 
 /// How many nearest candidates each ladder element keeps.
 pub const CANDIDATES_PER_ELEMENT: usize = 6;
+/// How many of the best single-part RLC solutions are refined with two-part pairs.
+pub const PAIR_REFINEMENT: usize = 32;
 /// How many ladder assignments are swept and ranked by response deviation.
 pub const LADDER_POOL: usize = 64;
 /// Response deviation is measured only where the ideal response is within this many dB of its
@@ -285,35 +288,56 @@ impl PartKind {
     }
 }
 
-/// All candidate choices from `values` within [low, high], singles and (if allowed) pairs.
+/// All candidate choices from `values` within [low, high], singles and (if allowed) pairs. Pairs
+/// that add (series resistors or inductors, parallel capacitors) use parts from low/10 to high;
+/// pairs that combine reciprocally use parts from low to 10·high.
 pub fn candidates(values: &PartValues, low: f64, high: f64, combine: Combine, kind: PartKind) -> Vec<Choice> {
+    candidates_with(values, (low, high), (low / 10.0, high), (low, high * 10.0), combine, kind)
+}
+
+/// As [`candidates`], with the parts of adding and reciprocal pairs drawn from the given ranges.
+/// Each part's partners are found by binary search, so the cost grows with the number of pairs
+/// inside the window, not with the square of the partner count.
+fn candidates_with(
+    values: &PartValues,
+    (low, high): (f64, f64),
+    adding_range: (f64, f64),
+    reciprocal_range: (f64, f64),
+    combine: Combine,
+    kind: PartKind,
+) -> Vec<Choice> {
     let mut out: Vec<Choice> = values
         .values_between(low, high)
         .into_iter()
         .map(|v| Choice { value: v, parts: vec![v], arrangement: Arrangement::Single })
         .collect();
     if combine == Combine::Pairs {
-        // Adding pairs use parts between low/10 and high; reciprocal pairs between low and 10·high.
         let (adding, reciprocal) = match kind {
             PartKind::Additive => (Arrangement::Series, Arrangement::Parallel),
             PartKind::Capacitive => (Arrangement::Parallel, Arrangement::Series),
         };
-        let adding_parts = values.values_between(low / 10.0, high);
-        for (i, &a) in adding_parts.iter().enumerate() {
-            for &b in &adding_parts[..=i] {
+        let parts = values.values_between(adding_range.0, adding_range.1);
+        for (i, &a) in parts.iter().enumerate() {
+            // b ≤ a with low ≤ a + b ≤ high.
+            let first = parts[..=i].partition_point(|&b| a + b < low);
+            for &b in &parts[first..=i] {
                 let v = a + b;
-                if (low..=high).contains(&v) {
-                    out.push(Choice { value: v, parts: vec![a, b], arrangement: adding });
+                if v > high {
+                    break;
                 }
+                out.push(Choice { value: v, parts: vec![a, b], arrangement: adding });
             }
         }
-        let reciprocal_parts = values.values_between(low, high * 10.0);
-        for (i, &a) in reciprocal_parts.iter().enumerate() {
-            for &b in &reciprocal_parts[..=i] {
+        let parts = values.values_between(reciprocal_range.0, reciprocal_range.1);
+        for (i, &a) in parts.iter().enumerate() {
+            // b ≤ a with low ≤ a·b/(a + b) ≤ high; the combination grows with b.
+            let first = parts[..=i].partition_point(|&b| a * b / (a + b) < low);
+            for &b in &parts[first..=i] {
                 let v = a * b / (a + b);
-                if (low..=high).contains(&v) {
-                    out.push(Choice { value: v, parts: vec![a, b], arrangement: reciprocal });
+                if v > high {
+                    break;
                 }
+                out.push(Choice { value: v, parts: vec![a, b], arrangement: reciprocal });
             }
         }
     }
@@ -323,8 +347,17 @@ pub fn candidates(values: &PartValues, low: f64, high: f64, combine: Combine, ki
 /// The `k` candidates nearest `ideal` in |ln(value/ideal)|, nearest first (singles before pairs
 /// on ties).
 pub fn nearest_choices(values: &PartValues, ideal: f64, combine: Combine, kind: PartKind, k: usize) -> Vec<Choice> {
-    let (low, high) = (ideal / 4.0, ideal * 4.0);
-    let mut all = candidates(values, low, high, combine, kind);
+    // A narrow window first (pairs are dense near any value), with the same pair parts as the
+    // wide window, so it holds exactly the wide window's candidates that lie inside it; widen it
+    // if it holds fewer than k.
+    let (adding, reciprocal) = ((ideal / 40.0, ideal * 4.0), (ideal / 4.0, ideal * 40.0));
+    let mut all = match combine {
+        Combine::Pairs => candidates_with(values, (ideal / 1.25, ideal * 1.25), adding, reciprocal, combine, kind),
+        Combine::Single => Vec::new(),
+    };
+    if all.len() < k {
+        all = candidates(values, ideal / 4.0, ideal * 4.0, combine, kind);
+    }
     all.sort_by(|a, b| {
         let (ea, eb) = ((a.value / ideal).ln().abs(), (b.value / ideal).ln().abs());
         ea.total_cmp(&eb).then(a.parts.len().cmp(&b.parts.len()))
@@ -445,7 +478,17 @@ fn fit_first_order(req: &Requirement, topology: Topology, options: &FitOptions) 
         Topology::Rc => (&options.parts.capacitors, "capacitor"),
         _ => (&options.parts.inductors, "inductor"),
     };
-    let resistors = options.parts.resistors.values_between(options.resistor_range.0, options.resistor_range.1);
+    // A series resistor into a resistive load divides the passband: keep it at most a tenth of
+    // the load (under 0.83 dB of loss, common practice), so the load sets the top of the range.
+    let series_resistor = matches!(
+        (topology, req.response),
+        (Topology::Rc, ResponseType::LowPass) | (Topology::Rl, ResponseType::HighPass)
+    );
+    let r_top = match (series_resistor, req.load_resistance) {
+        (true, Some(rl)) => options.resistor_range.1.min(rl / 10.0),
+        _ => options.resistor_range.1,
+    };
+    let resistors = options.parts.resistors.values_between(options.resistor_range.0, r_top);
     if resistors.is_empty() {
         return Err(SynthesisError::NoCandidates { reason: "no resistor value lies in the allowed range".to_string() });
     }
@@ -726,16 +769,19 @@ fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult
         let mut centres: Vec<f64> = rlc_ideals(req.response, l, f0, q, req).into_iter().map(|(c, _)| c).collect();
         centres.push(c_for(rs));
         centres.push(c_for(rs + r_top));
+        // Singles over the windows; pairs are tried afterwards, around the best single solutions.
         let mut capacitors: Vec<Choice> = Vec::new();
-        for centre in centres.into_iter().filter(|c| c.is_finite() && *c > 0.0) {
-            for c in
-                candidates(&options.parts.capacitors, centre / 4.0, centre * 4.0, options.combine, PartKind::Capacitive)
-            {
-                if !capacitors.iter().any(|k| k.value == c.value && k.parts == c.parts) {
-                    capacitors.push(c);
-                }
-            }
+        for centre in centres.iter().copied().filter(|c| c.is_finite() && *c > 0.0) {
+            capacitors.extend(candidates(
+                &options.parts.capacitors,
+                centre / 4.0,
+                centre * 4.0,
+                Combine::Single,
+                PartKind::Capacitive,
+            ));
         }
+        capacitors.sort_by(|a, b| a.value.total_cmp(&b.value).then(a.parts[0].total_cmp(&b.parts[0])));
+        capacitors.dedup();
         for c in capacitors {
             // Resistors: none, and every candidate within a factor of 4 of the resistance that
             // gives the exact Q with this L and C (or of the best reachable one).
@@ -744,18 +790,28 @@ fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult
             let centres = resistance_centres(q_of, q, rs, r_top, r_lo / 100.0);
             // Without an exact root (only the closest scan point came back), the best R trades Q
             // against f0, so every single value in range is tried.
-            let windows: Vec<(f64, f64)> = if centres.len() == 1 {
-                vec![(r_lo / 100.0, r_top - rs)]
-            } else {
-                centres.iter().map(|&c| (c / 4.0, (c * 4.0).min(r_top - rs))).collect()
-            };
-            for (low, high) in windows {
-                for r in candidates(&options.parts.resistors, low, high, options.combine, PartKind::Additive) {
-                    if !resistors.iter().flatten().any(|k| k.value == r.value && k.parts == r.parts) {
-                        resistors.push(Some(r));
-                    }
-                }
+            // With a load, the low-pass and high-pass f0 also moves with R, so R trades f0 against
+            // Q and every single value in range is tried too.
+            let f0_moves_with_r = g > 0.0 && matches!(req.response, ResponseType::LowPass | ResponseType::HighPass);
+            // Singles within a factor of 4 of each exact-Q resistance (and over the whole range
+            // where needed).
+            let mut windows: Vec<(f64, f64)> = centres.iter().map(|&c| (c / 4.0, (c * 4.0).min(r_top - rs))).collect();
+            if centres.len() == 1 || f0_moves_with_r {
+                windows.push((r_lo / 100.0, r_top - rs));
             }
+            for (low, high) in windows {
+                resistors.extend(
+                    candidates(&options.parts.resistors, low, high, Combine::Single, PartKind::Additive)
+                        .into_iter()
+                        .map(Some),
+                );
+            }
+            resistors.sort_by(|a, b| {
+                let key = |r: &Option<Choice>| r.as_ref().map_or((0.0, 0.0), |r| (r.value, r.parts[0]));
+                let (ka, kb) = (key(a), key(b));
+                ka.0.total_cmp(&kb.0).then(ka.1.total_cmp(&kb.1))
+            });
+            resistors.dedup();
             for r in resistors {
                 let rt = rs + r.as_ref().map_or(0.0, |r| r.value);
                 let (f_a, q_a) = rlc_figures(req.response, l, c.value, rt, req);
@@ -773,6 +829,55 @@ fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult
         });
     }
     scored.sort_by(|a, b| a.0.total_cmp(&b.0));
+    if options.combine == Combine::Pairs {
+        // Around each of the best single-part solutions: the 8 capacitor pairs nearest the value
+        // that gives the exact f0 with its series resistance, and for each of those the 8
+        // resistor pairs nearest each exact-Q resistance.
+        let g = req.load_resistance.map_or(0.0, |r| 1.0 / r);
+        let mut refined = Vec::new();
+        for (_, l, c, r) in scored.iter().take(PAIR_REFINEMENT) {
+            let l = l.value;
+            let rt = rs + r.as_ref().map_or(0.0, |r| r.value);
+            let c_exact = match req.response {
+                ResponseType::LowPass => (1.0 + rt * g) / (w0 * w0 * l) - req.load_capacitance.unwrap_or(0.0),
+                ResponseType::HighPass => 1.0 / (w0 * w0 * l * (1.0 + rt * g)),
+                ResponseType::BandPass | ResponseType::BandStop => 1.0 / (w0 * w0 * l),
+            };
+            let mut c_options = vec![c.clone()];
+            if c_exact.is_finite() && c_exact > 0.0 {
+                c_options.extend(
+                    nearest_choices(&options.parts.capacitors, c_exact, Combine::Pairs, PartKind::Capacitive, 64)
+                        .into_iter()
+                        .filter(|c| c.parts.len() == 2)
+                        .take(8),
+                );
+            }
+            for c in c_options {
+                let q_of = |rt: f64| rlc_figures(req.response, l, c.value, rt, req).1;
+                let mut r_options = vec![r.clone()];
+                for centre in resistance_centres(q_of, q, rs, r_top, r_lo / 100.0) {
+                    r_options.extend(
+                        nearest_choices(&options.parts.resistors, centre, Combine::Pairs, PartKind::Additive, 64)
+                            .into_iter()
+                            .filter(|r| r.parts.len() == 2 && r.value <= r_top - rs)
+                            .take(8)
+                            .map(Some),
+                    );
+                }
+                for r in r_options {
+                    let rt = rs + r.as_ref().map_or(0.0, |r| r.value);
+                    let (f_a, q_a) = rlc_figures(req.response, l, c.value, rt, req);
+                    let objective = relative_error(f_a, f0).hypot(relative_error(q_a, q));
+                    if objective.is_finite() {
+                        refined.push((objective, single(l), c.clone(), r));
+                    }
+                }
+            }
+        }
+        scored.extend(refined);
+        scored.sort_by(|a, b| a.0.total_cmp(&b.0));
+        scored.dedup_by(|a, b| a.1 == b.1 && a.2 == b.2 && a.3 == b.3);
+    }
     let band = deviation_band(req)?;
     let mut alternatives = Vec::new();
     let mut ideal = None;
@@ -1184,13 +1289,7 @@ mod tests {
             let req = lowpass(1, fc, rs, rl);
             let result = fit(&req, Topology::Rc, &opts).unwrap();
             let best = &result.alternatives[0];
-            let mut brute = f64::INFINITY;
-            for r in opts.parts.resistors.values_between(1e3, 1e4) {
-                for c in opts.parts.capacitors.values_between(1e-13, 1e-2) {
-                    let f = first_order_cutoff(Topology::Rc, ResponseType::LowPass, rs, r, c, &req);
-                    brute = brute.min(((f - fc) / fc).abs());
-                }
-            }
+            let brute = brute_force_rc(&req, &opts);
             assert!((best.objective - brute).abs() <= 1e-15, "fc {fc}: fit {} vs brute {brute}", best.objective);
             // The closed form agrees with the MNA sweep of the fitted design.
             // Swept from fc/1e4 so the low-end reference is within 1e-8 of the DC gain.
@@ -1237,7 +1336,12 @@ mod tests {
             _ => unreachable!(),
         };
         let mut brute = f64::INFINITY;
-        for r in opts.parts.resistors.values_between(opts.resistor_range.0, opts.resistor_range.1) {
+        // The stated domain: a series resistor at most a tenth of the load.
+        let r_top = match (req.response, req.load_resistance) {
+            (ResponseType::LowPass, Some(rl)) => opts.resistor_range.1.min(rl / 10.0),
+            _ => opts.resistor_range.1,
+        };
+        for r in opts.parts.resistors.values_between(opts.resistor_range.0, r_top) {
             for c in opts.parts.capacitors.values_between(1e-15, 1.0) {
                 let f = first_order_cutoff(Topology::Rc, req.response, req.source_resistance, r, c, req);
                 brute = brute.min(((f - fc) / fc).abs());
