@@ -44,7 +44,7 @@ pub struct FitArgs {
     #[arg(long, default_value = "butterworth")]
     pub alignment: String,
     /// Chebyshev passband ripple in dB.
-    #[arg(long, value_name = "DB")]
+    #[arg(long, value_name = "DB", allow_hyphen_values = true)]
     pub ripple: Option<String>,
     /// Bessel cutoff normalisation: magnitude (-3 dB at the cutoff), delay or phase.
     #[arg(long, value_name = "NORM", default_value = "magnitude")]

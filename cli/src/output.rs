@@ -337,6 +337,9 @@ pub fn render_fit(result: &bandwright::fit::FitResult, format: crate::args::FitF
             if let Some(x) = result.target.q {
                 target.push(format!("Q {x:.4}"));
             }
+            if target.is_empty() {
+                target.push("the requested band edges (no single cutoff for this response)".to_string());
+            }
             let _ = writeln!(out, "target: {}", target.join(", "));
             let _ = writeln!(out, "ranked by: {}", result.objective);
             let _ = writeln!(
