@@ -656,6 +656,19 @@ fn rlc_figures(response: ResponseType, l: f64, c: f64, rt: f64, req: &Requiremen
     ((cc / a).sqrt() / (2.0 * PI), (a * cc).sqrt() / b)
 }
 
+/// The capacitance that gives exactly `f0` with inductor `l` and total series resistance `rt`
+/// (from ω0² = c/a of each form's denominator; may be ≤ 0 when the load capacitance alone is too
+/// large).
+fn rlc_capacitor_for_f0(req: &Requirement, l: f64, f0: f64, rt: f64) -> f64 {
+    let w0 = 2.0 * PI * f0;
+    let g = req.load_resistance.map_or(0.0, |r| 1.0 / r);
+    match req.response {
+        ResponseType::LowPass => (1.0 + rt * g) / (w0 * w0 * l) - req.load_capacitance.unwrap_or(0.0),
+        ResponseType::HighPass => 1.0 / (w0 * w0 * l * (1.0 + rt * g)),
+        ResponseType::BandPass | ResponseType::BandStop => 1.0 / (w0 * w0 * l),
+    }
+}
+
 /// The ideal C and total series resistance for inductor `l`: every solution (the low-pass form
 /// can have two), empty if the form cannot reach (f0, Q) with this inductor.
 fn rlc_ideals(response: ResponseType, l: f64, f0: f64, q: f64, req: &Requirement) -> Vec<(f64, f64)> {
@@ -761,11 +774,7 @@ fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult
         // Capacitor windows (a factor of 4 either way) around each exact solution, around the value
         // that gives f0 with no resistor, and around the value for the largest resistance.
         let g = req.load_resistance.map_or(0.0, |r| 1.0 / r);
-        let c_for = |rt: f64| match req.response {
-            ResponseType::LowPass => (1.0 + rt * g) / (w0 * w0 * l) - req.load_capacitance.unwrap_or(0.0),
-            ResponseType::HighPass => 1.0 / (w0 * w0 * l * (1.0 + rt * g)),
-            ResponseType::BandPass | ResponseType::BandStop => 1.0 / (w0 * w0 * l),
-        };
+        let c_for = |rt: f64| rlc_capacitor_for_f0(req, l, f0, rt);
         let mut centres: Vec<f64> = rlc_ideals(req.response, l, f0, q, req).into_iter().map(|(c, _)| c).collect();
         centres.push(c_for(rs));
         centres.push(c_for(rs + r_top));
@@ -833,16 +842,11 @@ fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult
         // Around each of the best single-part solutions: the 8 capacitor pairs nearest the value
         // that gives the exact f0 with its series resistance, and for each of those the 8
         // resistor pairs nearest each exact-Q resistance.
-        let g = req.load_resistance.map_or(0.0, |r| 1.0 / r);
         let mut refined = Vec::new();
         for (_, l, c, r) in scored.iter().take(PAIR_REFINEMENT) {
             let l = l.value;
             let rt = rs + r.as_ref().map_or(0.0, |r| r.value);
-            let c_exact = match req.response {
-                ResponseType::LowPass => (1.0 + rt * g) / (w0 * w0 * l) - req.load_capacitance.unwrap_or(0.0),
-                ResponseType::HighPass => 1.0 / (w0 * w0 * l * (1.0 + rt * g)),
-                ResponseType::BandPass | ResponseType::BandStop => 1.0 / (w0 * w0 * l),
-            };
+            let c_exact = rlc_capacitor_for_f0(req, l, f0, rt);
             let mut c_options = vec![c.clone()];
             if c_exact.is_finite() && c_exact > 0.0 {
                 c_options.extend(
@@ -901,7 +905,16 @@ fn fit_second_order(req: &Requirement, options: &FitOptions) -> Result<FitResult
             fitted("C1", "capacitor", c_id, c.clone(), &options.parts.capacitors),
         ];
         if let Some(r) = &r {
-            parts.push(fitted("R1", "resistor", r_id.max(f64::MIN_POSITIVE), r.clone(), &options.parts.resistors));
+            // When the ideal solution needs no resistor, the chosen one is judged against the
+            // resistance that gives the exact Q with the chosen L and C (or, failing that, the
+            // closest Q), so the deviation is a real, finite figure.
+            let r_ideal = if r_id > 0.0 {
+                r_id
+            } else {
+                let q_of = |rt: f64| rlc_figures(req.response, l.value, c.value, rt, req).1;
+                resistance_centres(q_of, q, rs, r_top, r_lo / 100.0).first().copied().unwrap_or(r.value)
+            };
+            parts.push(fitted("R1", "resistor", r_ideal, r.clone(), &options.parts.resistors));
         }
         let deviation = max_deviation_db(&design, &ideal_response, band)?;
         ideal.get_or_insert(ideal_here);
