@@ -40,7 +40,7 @@ pub struct FitArgs {
     /// lowpass, highpass, bandpass or bandstop.
     #[arg(long, default_value = "lowpass")]
     pub response: String,
-    /// butterworth, chebyshev, bessel or linkwitz-riley.
+    /// butterworth, chebyshev, bessel, linkwitz-riley or critical.
     #[arg(long, default_value = "butterworth")]
     pub alignment: String,
     /// Chebyshev passband ripple in dB.
@@ -79,9 +79,10 @@ pub struct FitArgs {
     /// rc, rl, rlc or ladder.
     #[arg(long, default_value = "ladder")]
     pub topology: String,
-    /// Ladder element next to the source: series or shunt.
-    #[arg(long, default_value = "shunt")]
-    pub first: String,
+    /// Element next to the source: series or shunt (ladders default to shunt; RLC sections to
+    /// series, or shunt for a band-stop trap).
+    #[arg(long)]
+    pub first: Option<String>,
     /// Resistor values: an E-series name (E3..E192) or a stock-list file.
     #[arg(long, value_name = "SERIES", default_value = "E96")]
     pub resistors: String,

@@ -128,132 +128,57 @@ pub struct FitCommand {
     pub save: Option<PathBuf>,
 }
 
-fn value_of(flag: &str, text: &str, quantity: Quantity) -> Result<f64> {
-    parse_value(text, quantity).with_context(|| flag.to_string())
-}
-
-fn part_values(flag: &str, text: &str, quantity: Quantity) -> Result<bandwright::eseries::PartValues> {
-    if let Some(series) = bandwright::eseries::Series::from_name(text) {
-        return Ok(bandwright::eseries::PartValues::Series(series));
-    }
-    let path = std::path::Path::new(text);
-    if !path.exists() {
-        bail!("{flag} {text}: not an E-series name (E3, E6, E12, E24, E48, E96, E192) and no such stock-list file");
-    }
-    let contents = std::fs::read_to_string(path).with_context(|| format!("{flag}: cannot read stock list {text}"))?;
-    let name = path.file_stem().and_then(|s| s.to_str()).unwrap_or(text);
-    let list =
-        bandwright::eseries::StockList::parse(name, &contents, quantity).with_context(|| format!("{flag} {text}"))?;
-    Ok(bandwright::eseries::PartValues::Stock(list))
-}
-
 impl FitCommand {
-    /// Validates the raw flags.
+    /// Validates the raw flags through the core's [`bandwright::FitRequest`]; stock-list files
+    /// are read here and passed in by path.
     pub fn from_args(raw: crate::args::FitArgs) -> Result<Self> {
-        use bandwright::fit::{Combine, FitOptions, PartSets, Requirement, Topology};
-        use bandwright::ladder::FirstElement;
-        use bandwright::synthesis::{Alignment, Band, BesselNormalization, ResponseType};
-        let response = match raw.response.as_str() {
-            "lowpass" => ResponseType::LowPass,
-            "highpass" => ResponseType::HighPass,
-            "bandpass" => ResponseType::BandPass,
-            "bandstop" => ResponseType::BandStop,
-            other => bail!("--response {other}: use lowpass, highpass, bandpass or bandstop"),
-        };
-        let normalization = match raw.bessel_norm.as_str() {
-            "magnitude" => BesselNormalization::Magnitude,
-            "delay" => BesselNormalization::Delay,
-            "phase" => BesselNormalization::Phase,
-            other => bail!("--bessel-norm {other}: use magnitude, delay or phase"),
-        };
-        let mut alignment = match raw.alignment.as_str() {
-            "butterworth" => Alignment::Butterworth,
-            "chebyshev" => {
-                let ripple = raw.ripple.as_deref().unwrap_or("0.5");
-                Alignment::Chebyshev { ripple_db: value_of("--ripple", ripple, Quantity::Ratio)? }
-            }
-            "bessel" => Alignment::Bessel { normalization },
-            "linkwitz-riley" => Alignment::LinkwitzRiley,
-            other => bail!("--alignment {other}: use butterworth, chebyshev, bessel or linkwitz-riley"),
-        };
-        if raw.ripple.is_some() && !matches!(alignment, Alignment::Chebyshev { .. }) {
-            bail!("--ripple applies to --alignment chebyshev only");
-        }
-        let frequency_of = |flag: &str, text: &Option<String>| text.as_deref().map(|t| frequency(flag, t)).transpose();
-        let (cutoff, f0, low, high) = (
-            frequency_of("--cutoff", &raw.cutoff)?,
-            frequency_of("--f0", &raw.f0)?,
-            frequency_of("--low", &raw.low)?,
-            frequency_of("--high", &raw.high)?,
-        );
-        let band = match (cutoff, f0, low, high) {
-            (Some(fc), None, None, None) => Band::Cutoff(fc),
-            (None, Some(f0), None, None) => {
-                let q = raw.q.as_deref().ok_or_else(|| anyhow::anyhow!("--f0 needs --q"))?;
-                alignment = Alignment::Quality { q: value_of("--q", q, Quantity::Ratio)? };
-                Band::Cutoff(f0)
-            }
-            (None, None, Some(low_hz), Some(high_hz)) => Band::Edges { low_hz, high_hz },
-            _ => bail!("give exactly one of --cutoff F, --f0 F --q Q, or --low F --high F"),
-        };
-        if raw.q.is_some() && f0.is_none() {
-            bail!("--q goes with --f0");
-        }
-        let default_order = match (alignment, response) {
-            (Alignment::Quality { .. }, ResponseType::LowPass | ResponseType::HighPass) => 2,
-            (Alignment::Quality { .. }, _) => 1,
-            _ => 2,
-        };
-        let order = match &raw.order {
-            Some(text) => {
-                let n = value_of("--order", text, Quantity::Ratio)?;
-                if n.fract() != 0.0 || !(0.0..=100.0).contains(&n) {
-                    bail!("--order {text}: give a whole number from 1 to 8");
+        let mut stock = std::collections::BTreeMap::new();
+        for (flag, name) in
+            [("--resistors", &raw.resistors), ("--capacitors", &raw.capacitors), ("--inductors", &raw.inductors)]
+        {
+            if bandwright::eseries::Series::from_name(name.trim()).is_none() {
+                let path = std::path::Path::new(name);
+                if !path.exists() {
+                    bail!("{flag} {name}: not an E-series name (E3, E6, E12, E24, E48, E96, E192) and no such stock-list file");
                 }
-                n as usize
+                let contents =
+                    std::fs::read_to_string(path).with_context(|| format!("{flag}: cannot read stock list {name}"))?;
+                stock.insert(name.clone(), contents);
             }
-            None => default_order,
-        };
-        let source_resistance = value_of("--source", &raw.source, Quantity::Resistance)?;
-        let load_resistance =
-            if raw.load == "open" { None } else { Some(value_of("--load", &raw.load, Quantity::Resistance)?) };
-        let load_capacitance = raw
-            .load_capacitance
-            .as_deref()
-            .map(|t| value_of("--load-capacitance", t, Quantity::Capacitance))
-            .transpose()?;
-        let first = match raw.first.as_str() {
-            "series" => FirstElement::Series,
-            "shunt" => FirstElement::Shunt,
-            other => bail!("--first {other}: use series or shunt"),
-        };
-        let topology = match raw.topology.as_str() {
-            "rc" => Topology::Rc,
-            "rl" => Topology::Rl,
-            "rlc" => Topology::Rlc,
-            "ladder" => Topology::Ladder(first),
-            other => bail!("--topology {other}: use rc, rl, rlc or ladder"),
-        };
-        let alternatives = value_of("--alternatives", &raw.alternatives, Quantity::Ratio)?;
-        if alternatives.fract() != 0.0 || !(1.0..=1000.0).contains(&alternatives) {
-            bail!("--alternatives {}: give a whole number from 1 to 1000", raw.alternatives);
         }
-        let options = FitOptions {
-            parts: PartSets {
-                resistors: part_values("--resistors", &raw.resistors, Quantity::Resistance)?,
-                capacitors: part_values("--capacitors", &raw.capacitors, Quantity::Capacitance)?,
-                inductors: part_values("--inductors", &raw.inductors, Quantity::Inductance)?,
-            },
-            combine: if raw.combine { Combine::Pairs } else { Combine::Single },
-            alternatives: alternatives as usize,
-            resistor_range: (
-                value_of("--r-min", &raw.r_min, Quantity::Resistance)?,
-                value_of("--r-max", &raw.r_max, Quantity::Resistance)?,
-            ),
-            name: format!("fitted {} {}", raw.alignment, raw.response),
+        let request = bandwright::FitRequest {
+            response: Some(raw.response),
+            alignment: Some(raw.alignment),
+            ripple: raw.ripple,
+            bessel_norm: Some(raw.bessel_norm),
+            order: raw.order,
+            cutoff: raw.cutoff,
+            f0: raw.f0,
+            q: raw.q,
+            low: raw.low,
+            high: raw.high,
+            source: Some(raw.source),
+            load: Some(raw.load),
+            load_capacitance: raw.load_capacitance,
+            topology: Some(raw.topology),
+            first: raw.first,
+            resistors: Some(raw.resistors),
+            capacitors: Some(raw.capacitors),
+            inductors: Some(raw.inductors),
+            combine: raw.combine,
+            alternatives: Some(raw.alternatives),
+            r_min: Some(raw.r_min),
+            r_max: Some(raw.r_max),
+            stock,
         };
-        let requirement =
-            Requirement { response, alignment, order, band, source_resistance, load_resistance, load_capacitance };
-        Ok(Self { requirement, topology, options, format: raw.format, save: raw.save })
+        let resolved =
+            request.resolve().map_err(|e| anyhow::anyhow!("--{}: {}", e.field().replace('_', "-"), e.message()))?;
+        Ok(Self {
+            requirement: resolved.requirement,
+            topology: resolved.topology,
+            options: resolved.options,
+            format: raw.format,
+            save: raw.save,
+        })
     }
 }

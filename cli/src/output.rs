@@ -277,52 +277,9 @@ fn part_quantity(kind: &str) -> Quantity {
 pub fn render_fit(result: &bandwright::fit::FitResult, format: crate::args::FitFormat) -> String {
     use bandwright::fit::Arrangement;
     let mut out = String::new();
-    let figures = |f: &bandwright::fit::Figures| {
-        let mut map = serde_json::Map::new();
-        if let Some(x) = f.cutoff_hz {
-            map.insert("cutoff_hz".into(), json!(x));
-        }
-        if let Some(x) = f.f0_hz {
-            map.insert("f0_hz".into(), json!(x));
-        }
-        if let Some(x) = f.q {
-            map.insert("q".into(), json!(x));
-        }
-        Value::Object(map)
-    };
-    let arrangement = |a: Arrangement| match a {
-        Arrangement::Single => "single",
-        Arrangement::Series => "series",
-        Arrangement::Parallel => "parallel",
-    };
     match format {
         crate::args::FitFormat::Json => {
-            let alternatives: Vec<Value> = result
-                .alternatives
-                .iter()
-                .map(|a| {
-                    json!({
-                        "parts": a.parts.iter().map(|p| json!({
-                            "ref": p.reference, "kind": p.kind, "ideal_value": p.ideal_value,
-                            "chosen_value": p.choice.value, "chosen_parts": p.choice.parts,
-                            "arrangement": arrangement(p.choice.arrangement), "series": p.series,
-                            "tolerance_pct": p.tolerance_pct, "deviation_pct": p.deviation_pct,
-                        })).collect::<Vec<_>>(),
-                        "achieved": figures(&a.achieved),
-                        "cutoff_error_pct": a.cutoff_error_pct,
-                        "f0_error_pct": a.f0_error_pct,
-                        "q_error_pct": a.q_error_pct,
-                        "max_response_deviation_db": a.max_response_deviation_db,
-                    })
-                })
-                .collect();
-            let value = json!({
-                "target": figures(&result.target),
-                "deviation_band_hz": [result.deviation_band_hz.0, result.deviation_band_hz.1],
-                "objective": result.objective,
-                "alternatives": alternatives,
-            });
-            out.push_str(&serde_json::to_string_pretty(&value).expect("JSON of plain values"));
+            out.push_str(&serde_json::to_string_pretty(&result.to_json()).expect("JSON of plain values"));
             out.push('\n');
         }
         crate::args::FitFormat::Table => {
@@ -344,7 +301,7 @@ pub fn render_fit(result: &bandwright::fit::FitResult, format: crate::args::FitF
             let _ = writeln!(out, "ranked by: {}", result.objective);
             let _ = writeln!(
                 out,
-                "response deviation measured over {} … {} against the ideal-value circuit",
+                "response deviation measured over {} … {} (passband plus transition band; what it is measured against is stated above)",
                 freq(result.deviation_band_hz.0),
                 freq(result.deviation_band_hz.1)
             );

@@ -348,7 +348,10 @@ fn impossible_requirements_are_named() {
     check_fit_rejected(&["--order", "2", "--cutoff", "1k", "--topology", "rc"], "cannot exceed Q = 0.5");
     check_fit_rejected(&["--order", "0", "--cutoff", "1k"], "order 0");
     check_fit_rejected(&["--order", "9", "--cutoff", "1k", "--source", "50", "--load", "50"], "order 9");
-    check_fit_rejected(&["--order", "3", "--cutoff", "0"], "--cutoff 0: give a frequency above 0 Hz");
+    check_fit_rejected(
+        &["--order", "3", "--cutoff", "0"],
+        "--cutoff: \"0\" is not accepted: give a frequency above 0 Hz",
+    );
     check_fit_rejected(&["--order", "3", "--cutoff", "-5k"], "give a frequency above 0 Hz");
     check_fit_rejected(
         &["--order", "4", "--cutoff", "1k", "--source", "50", "--load", "25", "--first", "series"],
@@ -360,9 +363,17 @@ fn impossible_requirements_are_named() {
         "stock list",
     );
     check_fit_rejected(&["--order", "3", "--cutoff", "1k", "--capacitors", "E7"], "not an E-series name");
-    check_fit_rejected(&["--order", "3", "--cutoff", "1k", "--q", "2"], "--q goes with --f0");
+    check_fit_rejected(&["--order", "3", "--cutoff", "1k", "--q", "2"], "--q: q goes with f0");
     check_fit_rejected(
-        &["--order", "4", "--alignment", "linkwitz-riley", "--cutoff", "1k", "--source", "8", "--load", "8"],
-        "not available",
+        &["--order", "3", "--alignment", "linkwitz-riley", "--cutoff", "1k", "--source", "8", "--load", "8"],
+        "needs an even order",
+    );
+    check_fit_rejected(
+        &["--f0", "1k", "--q", "2", "--topology", "rlc", "--first", "shunt", "--source", "50"],
+        "needs a resistive load",
+    );
+    check_fit_rejected(
+        &["--cutoff", "1k", "--first", "middle"],
+        "--first: \"middle\" is not a choice: use series or shunt",
     );
 }

@@ -32,7 +32,8 @@
 //! | Butterworth | closed form | closed form, any r | r ≥ 1 / r ≤ 1 (closed form) | closed form |
 //! | Chebyshev | MYJ recursion; even n: natural ratio coth²(β/4) | closed form, any r | r ≥ coth²(β/4) / r ≤ 1/coth²(β/4) (closed form) | continued fraction |
 //! | Bessel | Darlington | Darlington, any r | r ≥ r_min / r ≤ 1/r_min (Darlington) | continued fraction |
-//! | Linkwitz-Riley, f0/Q | not available ([`SynthesisError::Unsupported`]) | | | |
+//! | Linkwitz-Riley (even n), critical | Darlington | Darlington, any r | r ≥ r_min / r ≤ 1/r_min (Darlington) | continued fraction |
+//! | f0/Q | not available ([`SynthesisError::Unsupported`]): use an RLC section | | | |
 //!
 //! Every ratio is thus reachable in one of the two forms. The even-order limits follow from
 //! ρ(∞) = +1 for a series first element: R_load < R_source needs ρ(0) < 0, so an odd number of
@@ -171,7 +172,7 @@ pub struct LadderOptions {
 /// [`SynthesisError::BadOrder`] outside 1..=8, [`SynthesisError::BadRipple`],
 /// [`SynthesisError::BadValue`] for a ratio that is not finite and positive,
 /// [`SynthesisError::Terminations`] for a termination the alignment cannot have (the reason names
-/// what is possible), [`SynthesisError::Unsupported`] for Linkwitz-Riley and f0/Q.
+/// what is possible), [`SynthesisError::Unsupported`] for f0/Q (an RLC section instead).
 pub fn prototype_values(
     alignment: Alignment,
     order: usize,
@@ -252,6 +253,9 @@ pub fn prototype_values_for(
                     Family::Butterworth { .. } => 1.0,
                     // Bessel reflection zeros include real ones down to this ratio.
                     Family::Bessel { n, .. } => bessel_step_down_limit(n),
+                    Family::LinkwitzRiley { .. } | Family::Critical { .. } => {
+                        step_down_limit(&family.all_pole_polynomial().expect("an all-pole family").0)
+                    }
                 };
                 if series_ratio < bound * (1.0 - 1e-9) {
                     return Err(refuse(even_order_reason(family, first, ratio, bound)));
@@ -360,9 +364,25 @@ impl Prototype {
 /// The alignments a ladder can be made for, with their validated parameters.
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Family {
-    Butterworth { n: usize },
-    Chebyshev { n: usize, ripple_db: f64 },
-    Bessel { n: usize, normalization: BesselNormalization },
+    Butterworth {
+        n: usize,
+    },
+    Chebyshev {
+        n: usize,
+        ripple_db: f64,
+    },
+    Bessel {
+        n: usize,
+        normalization: BesselNormalization,
+    },
+    /// The Butterworth polynomial of order n/2, squared (n even).
+    LinkwitzRiley {
+        n: usize,
+    },
+    /// (1 + s)^n, scaled to −3 dB at ω = 1.
+    Critical {
+        n: usize,
+    },
 }
 
 /// Why a doubly terminated prototype could not be made.
@@ -393,10 +413,14 @@ impl Family {
                 Ok(Family::Chebyshev { n, ripple_db })
             }
             Alignment::Bessel { normalization } => Ok(Family::Bessel { n, normalization }),
-            Alignment::LinkwitzRiley => Err(SynthesisError::Unsupported {
-                asked: format!("a Linkwitz-Riley LC ladder of order {n}"),
-                instead: "Linkwitz-Riley is not a standard passive ladder alignment; build each branch from cascaded Butterworth sections of half the order (per-branch second-order sections), or use a Butterworth ladder".to_string(),
+            Alignment::LinkwitzRiley if n % 2 == 1 => Err(SynthesisError::BadOrder {
+                order: n,
+                min: 2,
+                max: crate::prototype::MAX_ORDER,
+                why: "Linkwitz-Riley needs an even order",
             }),
+            Alignment::LinkwitzRiley => Ok(Family::LinkwitzRiley { n }),
+            Alignment::Critical => Ok(Family::Critical { n }),
             Alignment::Quality { q } => Err(SynthesisError::Unsupported {
                 asked: format!("an LC ladder for a single f0/Q section (Q = {q})"),
                 instead: "use --topology rlc for a single section".to_string(),
@@ -412,10 +436,40 @@ impl Family {
                 let denominator = real_polynomial(&chebyshev_poles(n, ripple_db), 1.0);
                 cauer_even_odd(&denominator)
             }
-            Family::Bessel { n, normalization } => {
-                let (denominator, scale) = bessel_phase_polynomial(n, normalization);
+            Family::Bessel { .. } | Family::LinkwitzRiley { .. } | Family::Critical { .. } => {
+                let (denominator, scale) = self.all_pole_polynomial().expect("an all-pole family");
                 Ok(cauer_even_odd(&denominator)?.into_iter().map(|g| g * scale).collect())
             }
+        }
+    }
+
+    /// The denominator D(s) (ascending, D(0) = 1) of the families synthesized from their
+    /// polynomial (Darlington or continued fraction), and the factor that scales the ladder
+    /// values to the family's cutoff normalisation.
+    fn all_pole_polynomial(self) -> Option<(Vec<f64>, f64)> {
+        match self {
+            Family::Bessel { n, normalization } => Some(bessel_phase_polynomial(n, normalization)),
+            // LR: B_{n/2}(s)², −6.02 dB at ω = 1 with no rescaling (prototype.rs).
+            Family::LinkwitzRiley { n } => {
+                let half = crate::prototype::lowpass_prototype(Alignment::Butterworth, n / 2).ok()?;
+                let doubled: Vec<Complex64> = half.poles.iter().flat_map(|&p| [p, p]).collect();
+                Some((real_polynomial(&doubled, 1.0), 1.0))
+            }
+            // (1 + s)^n: binomial coefficients; the −3 dB point sits at √(2^{1/n} − 1).
+            Family::Critical { n } => {
+                let mut d = vec![1.0];
+                for _ in 0..n {
+                    let mut next = vec![0.0; d.len() + 1];
+                    for (k, &c) in d.iter().enumerate() {
+                        next[k] += c;
+                        next[k + 1] += c;
+                    }
+                    d = next;
+                }
+                let scale = half_power_frequency(&d);
+                Some((d, scale))
+            }
+            Family::Butterworth { .. } | Family::Chebyshev { .. } => None,
         }
     }
 
@@ -425,8 +479,8 @@ impl Family {
         match self {
             Family::Butterworth { n } => Ok(butterworth_doubly(n, series_ratio.unwrap_or(1.0))),
             Family::Chebyshev { n, ripple_db } => chebyshev_doubly(n, ripple_db, series_ratio),
-            Family::Bessel { n, normalization } => {
-                let (denominator, scale) = bessel_phase_polynomial(n, normalization);
+            Family::Bessel { n, .. } | Family::LinkwitzRiley { n } | Family::Critical { n } => {
+                let (denominator, scale) = self.all_pole_polynomial().expect("an all-pole family");
                 let ratio = series_ratio.unwrap_or(1.0);
                 let zeros = match (ratio >= 1.0, n % 2) {
                     (true, _) => ZeroChoice::Left,
@@ -436,7 +490,10 @@ impl Family {
                     (false, _) => ZeroChoice::LeftButSmallestReal,
                 };
                 let (mut g, load) = darlington(&denominator, ratio, zeros).map_err(DoublyError::Numerical)?;
-                if series_ratio.is_none() && normalization != BesselNormalization::Delay {
+                // Bessel equal-termination values are listed source-side first as in the tables.
+                let bessel_table_orientation = matches!(self, Family::Bessel { normalization, .. }
+                    if normalization != BesselNormalization::Delay);
+                if series_ratio.is_none() && bessel_table_orientation {
                     g.reverse();
                 }
                 Ok((g.into_iter().map(|x| x * scale).collect(), load))
@@ -537,7 +594,9 @@ fn even_order_reason(family: Family, first: FirstElement, ratio: f64, bound: f64
         Family::Chebyshev { .. } => {
             "the limit is the natural ratio coth²(β/4) set by the passband ripple, which equal terminations select automatically"
         }
-        Family::Bessel { .. } => "beyond that limit the reflection zeros have no real member to place in the right half-plane",
+        Family::Bessel { .. } | Family::LinkwitzRiley { .. } | Family::Critical { .. } => {
+            "beyond that limit the reflection zeros have no real member to place in the right half-plane"
+        }
     };
     format!("{reason}; {why}")
 }
@@ -548,6 +607,7 @@ fn alignment_label(alignment: Alignment) -> String {
         Alignment::Chebyshev { ripple_db } => format!("Chebyshev {ripple_db} dB"),
         Alignment::Bessel { normalization } => format!("Bessel ({})", bessel_normalization_text(normalization)),
         Alignment::LinkwitzRiley => "Linkwitz-Riley".to_string(),
+        Alignment::Critical => "critically damped".to_string(),
         Alignment::Quality { q } => format!("second-order Q = {q}"),
     }
 }
@@ -588,6 +648,8 @@ fn design_note(alignment: Alignment, prototype: &Prototype, options: &LadderOpti
     let normalisation = match alignment {
         Alignment::Butterworth => "; the cutoff is the −3.01 dB point".to_string(),
         Alignment::Chebyshev { ripple_db } => format!("; the cutoff is the ripple edge, −{ripple_db} dB"),
+        Alignment::LinkwitzRiley => "; the cutoff is the −6.02 dB point".to_string(),
+        Alignment::Critical => "; the cutoff is the −3.01 dB point (coincident real poles)".to_string(),
         _ => String::new(),
     };
     let terminations = match prototype.termination {
@@ -787,7 +849,13 @@ fn bessel_phase_polynomial(n: usize, normalization: BesselNormalization) -> (Vec
 /// 1 − t ≤ −min Q(u)/D(0)² over u > 0, with Q(u) = D(s)D(−s) − D(0)². With
 /// ((1 − r)/(1 + r))² = 1 − t that gives r ≥ (1 − √m)/(1 + √m), m = −min Q/D(0)².
 fn bessel_step_down_limit(n: usize) -> f64 {
-    let (d, _) = bessel_phase_polynomial(n, BesselNormalization::Phase);
+    step_down_limit(&bessel_phase_polynomial(n, BesselNormalization::Phase).0)
+}
+
+/// The lowest R_load/R_source of a series-first even-order ladder realising 1/D(s) by the
+/// Darlington route (see [`bessel_step_down_limit`] for the derivation); D ascending.
+fn step_down_limit(d: &[f64]) -> f64 {
+    let n = d.len() - 1;
     // Q(u) in u = s², ascending; Q(0) = 0.
     let q: Vec<f64> = (0..=n)
         .map(|k| {
@@ -903,10 +971,14 @@ fn darlington(denominator: &[f64], ratio: f64, zeros: ZeroChoice) -> Result<(Vec
     let reflected: Vec<Wide> = d.iter().enumerate().map(|(k, &x)| if k % 2 == 0 { x } else { -x }).collect();
     // P(s) = D(s)D(−s) − t·D(0)², an even polynomial of degree 2n.
     let mut p = vec![Wide::from(0.0); 2 * n + 1];
+    // The size of the terms summed into each coefficient, to tell a coefficient that cancels
+    // exactly (LR: B(s)²B(−s)² − 1 has u^(n/2) as its lowest term) from a small one.
+    let mut term_size = vec![0.0f64; 2 * n + 1];
     for (i, &x) in d.iter().enumerate() {
         for (j, &y) in reflected.iter().enumerate() {
             if (i + j) % 2 == 0 {
                 p[i + j] = p[i + j] + x * y;
+                term_size[i + j] += (x.hi * y.hi).abs();
             }
         }
     }
@@ -917,7 +989,10 @@ fn darlington(denominator: &[f64], ratio: f64, zeros: ZeroChoice) -> Result<(Vec
         let q = (Wide::from(ratio) - Wide::from(1.0)) / (Wide::from(ratio) + Wide::from(1.0));
         d[0] * d[0] * q * q
     };
-    let at_origin = (0..=n).take_while(|&k| p[2 * k].hi == 0.0).count();
+    let at_origin = (0..=n).take_while(|&k| p[2 * k].hi.abs() <= 1e-13 * term_size[2 * k]).count();
+    for k in 0..at_origin {
+        p[2 * k] = Wide::from(0.0);
+    }
     let mut zeros_s = vec![WideComplex::from(Complex64::new(0.0, 0.0)); at_origin];
     if at_origin < n {
         let u_polynomial: Vec<f64> = (at_origin..=n).map(|k| p[2 * k].hi).collect();
@@ -1565,6 +1640,10 @@ mod tests {
                 let scale = test_bessel_scale(n, normalization);
                 (b[0] / test_polynomial_value(&b, Complex64::new(0.0, omega * scale))).norm_sqr()
             }
+            // Source: the definition (prototype.rs): |B_{n/2}(jΩ)|⁴ = (1 + Ω^n)².
+            Alignment::LinkwitzRiley => 1.0 / (1.0 + omega.powi(n as i32)).powi(2),
+            // Source: the definition: |1 + jΩ/ωp|^(−2n) with ωp^−2 = 2^{1/n} − 1.
+            Alignment::Critical => (1.0 + omega * omega * (2f64.powf(1.0 / n as f64) - 1.0)).powi(-(n as i32)),
             _ => unreachable!("no ladder for {alignment:?}"),
         }
     }
@@ -1952,12 +2031,51 @@ mod tests {
     }
 
     #[test]
-    fn linkwitz_riley_and_single_sections_point_elsewhere() {
+    fn single_sections_point_elsewhere_and_linkwitz_riley_needs_an_even_order() {
         let lp = options(ResponseType::LowPass, FirstElement::Series);
-        let text = error_text(Alignment::LinkwitzRiley, 4, Termination::Equal, &lp);
-        assert!(text.contains("per-branch"), "{text}");
         let text = error_text(Alignment::Quality { q: 0.9 }, 2, Termination::Equal, &lp);
         assert!(text.contains("--topology rlc"), "{text}");
+        let text = error_text(Alignment::LinkwitzRiley, 3, Termination::Equal, &lp);
+        assert!(text.contains("even order"), "{text}");
+    }
+
+    /// Linkwitz-Riley and critically damped ladders by the Darlington and continued-fraction
+    /// routes, swept against their closed-form |H|² (see `shape`), every order, every
+    /// termination and both forms where the rules allow them, lowpass, highpass and bandpass.
+    #[test]
+    fn linkwitz_riley_and_critical_ladders_realise_their_responses() {
+        let mut checked = 0;
+        for alignment in [Alignment::LinkwitzRiley, Alignment::Critical] {
+            for n in 1..=MAX_ORDER {
+                if alignment == Alignment::LinkwitzRiley && n % 2 == 1 {
+                    continue;
+                }
+                for termination in [
+                    Termination::Equal,
+                    Termination::Ratio(2.0),
+                    Termination::Ratio(0.5),
+                    Termination::IdealSource,
+                    Termination::OpenLoad,
+                ] {
+                    for first in [FirstElement::Series, FirstElement::Shunt] {
+                        if expect_refusal(alignment, n, termination, first) {
+                            continue;
+                        }
+                        for response in [ResponseType::LowPass, ResponseType::HighPass, ResponseType::BandPass] {
+                            let design = synthesize_ladder(alignment, n, termination, &options(response, first))
+                                .unwrap_or_else(|e| panic!("{alignment:?} n={n} {termination:?} {first:?}: {e}"));
+                            let error = sweep_error(&design, alignment, n, response);
+                            assert!(
+                                error < 1e-9,
+                                "{alignment:?} n={n} {termination:?} {first:?} {response:?}: {error}"
+                            );
+                            checked += 1;
+                        }
+                    }
+                }
+            }
+        }
+        assert!(checked > 150, "{checked}");
     }
 
     proptest::proptest! {

@@ -18,7 +18,9 @@
 //!
 //! # Reading order
 //! [`notation`] → [`circuit`] → [`lu`] → [`mna`] → [`modal`] → [`sweep`] → [`response`] →
-//! [`measure`] → [`design`], and [`cautions`] for the safety text every adapter shows.
+//! [`measure`] → [`design`], and [`cautions`] for the safety text every adapter shows. Synthesis:
+//! [`synthesis`] → [`eseries`] → [`prototype`] → [`transform`] → [`ladder`] → [`fit`] →
+//! [`request`] (the requirement as typed); [`share`] packs a design into a link.
 #![deny(missing_docs)]
 
 pub mod notation;
@@ -45,7 +47,14 @@ pub mod transform;
 
 pub mod ladder;
 
+pub mod rc_ladder;
+
 pub mod fit;
+
+pub mod request;
+
+// Sharing a design as text.
+pub mod share;
 
 pub use circuit::{Circuit, CircuitBuilder, CircuitError, Element, ElementKind, Gain, Node};
 pub use design::{parse_design, Design, DesignError, Load, Part, Source};
@@ -61,6 +70,8 @@ pub use mna::{AcSystem, Detail, ElementState, Probe, Solution, SolveError};
 pub use modal::{Modal, ModalError};
 pub use notation::{format_quantity, format_value, parse_value, ParseError, Quantity};
 pub use prototype::{lowpass_prototype, Section, Zpk, MAX_ORDER};
+pub use request::{FitRequest, RequestError, ResolvedFit};
 pub use response::Response;
+pub use share::{decode_share, encode_share, ShareError};
 pub use sweep::{sweep, FrequencyGrid, GridError, Spacing};
 pub use transform::{denormalize, target_response};

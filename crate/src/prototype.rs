@@ -35,6 +35,9 @@
 //! - **Linkwitz-Riley**: the Butterworth poles of order n/2, each twice, gain 1, so |H(j1)| =
 //!   −6.0206 dB and low-pass + high-pass is all-pass for n = 4 and 8. Definition as in references.md
 //!   §3.4 (LR2 = (1st-order Butterworth)², LR4 = (2nd-order Butterworth)²).
+//! - **Critical** (critically damped): n coincident real poles at −1/√(2^{1/n} − 1), gain Π(−p),
+//!   so the DC gain is 1 and |H(j1)|² = 1/2 exactly (common practice: the response of n identical
+//!   buffered first-order stages, scaled to −3 dB at the cutoff). Passive RC ladders approach it.
 //! - **Quality**: the roots of s² + s/q + 1, gain 1 (common practice for a single second-order
 //!   section at ω0 = 1).
 
@@ -108,6 +111,7 @@ pub fn lowpass_prototype(alignment: Alignment, order: usize) -> Result<Zpk, Synt
         Alignment::Chebyshev { ripple_db } => chebyshev(order, ripple_db),
         Alignment::Bessel { normalization } => Ok(bessel(order, normalization)),
         Alignment::LinkwitzRiley => linkwitz_riley(order),
+        Alignment::Critical => Ok(critical(order)),
         Alignment::Quality { q } => quality(order, q),
     }
 }
@@ -260,6 +264,18 @@ fn linkwitz_riley(order: usize) -> Result<Zpk, SynthesisError> {
     let half = butterworth(order / 2);
     let poles = half.poles.iter().flat_map(|&p| [p, p]).collect();
     Ok(Zpk { zeros: Vec::new(), poles, gain: 1.0 })
+}
+
+/// n coincident real poles at −1/√(2^{1/n} − 1), gain Π(−p): DC gain 1, −3.01 dB at ω = 1.
+fn critical(order: usize) -> Zpk {
+    let omega = critical_pole(order);
+    Zpk { zeros: Vec::new(), poles: vec![Complex64::new(-omega, 0.0); order], gain: omega.powi(order as i32) }
+}
+
+/// The pole frequency of the order-n critically damped prototype: |1/(1 + j/ω)|^(2n) = 1/2 gives
+/// ω = 1/√(2^{1/n} − 1) (n = 1: 1; n = 2: 1.5538).
+pub fn critical_pole(order: usize) -> f64 {
+    1.0 / (2f64.powf(1.0 / order as f64) - 1.0).sqrt()
 }
 
 /// The roots of s² + s/q + 1 (order 2 only), gain 1.

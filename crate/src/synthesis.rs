@@ -36,6 +36,9 @@ pub enum Alignment {
     },
     /// The square of a Butterworth of half the order (even orders only); −6.02 dB at the cutoff.
     LinkwitzRiley,
+    /// Critically damped: n coincident real poles, −3.01 dB at the cutoff. The response of n
+    /// identical buffered first-order stages, and the natural target of an n-stage RC ladder.
+    Critical,
     /// One second-order section of the given Q (order 2 only); the cutoff is f0.
     Quality {
         /// Pole quality factor Q = |p| / (2·|Re p|), > 0.
@@ -207,6 +210,7 @@ impl Alignment {
             Self::Chebyshev { .. } => "chebyshev",
             Self::Bessel { .. } => "bessel",
             Self::LinkwitzRiley => "linkwitz-riley",
+            Self::Critical => "critical",
             Self::Quality { .. } => "second-order f0/Q",
         }
     }

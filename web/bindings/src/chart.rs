@@ -1,0 +1,131 @@
+//! The four stacked panels (magnitude, phase, group delay, |Z_in|) of the session's tracks,
+//! drawn through the plot layer onto any plotters backend: the HiDPI canvas in the page, or an
+//! SVG string for export.
+
+use crate::error::WebError;
+use crate::session::{Curves, Workbench};
+use bandwright_plot::{draw_panels, ChartOptions, Panel, PanelLayout, Quantity, Series, Theme};
+use plotters::coord::Shift;
+use plotters::prelude::{DrawingArea, DrawingBackend, IntoDrawingArea, SVGBackend};
+
+/// The largest SVG export, per side, in pixels.
+pub const MAX_SVG_SIDE: u32 = 8192;
+
+/// The panels, top to bottom.
+pub const PANELS: [Quantity; 4] =
+    [Quantity::MagnitudeDb, Quantity::PhaseDeg, Quantity::GroupDelayS, Quantity::ImpedanceOhm];
+
+/// Finds the theme the page names.
+///
+/// # Errors
+/// Anything but "light" or "dark".
+pub fn theme_named(name: &str) -> Result<Theme, WebError> {
+    match name.trim() {
+        "light" => Ok(Theme::Light),
+        "dark" => Ok(Theme::Dark),
+        other => Err(WebError::general(format!("unknown theme {other:?}; use light or dark"))),
+    }
+}
+
+/// Draws the session's swept tracks onto `area` and returns where the panels went.
+///
+/// # Errors
+/// The plot layer's error (for example an area too small for four panels).
+pub fn draw<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    bench: &mut Workbench,
+    theme: Theme,
+) -> Result<PanelLayout, WebError> {
+    let grid = bench.grid().frequencies();
+    let f_range_hz = (grid[0], grid[grid.len() - 1]);
+    let swept = bench.swept();
+    let panels: Vec<Panel> = PANELS
+        .iter()
+        .map(|&quantity| Panel {
+            quantity,
+            series: swept
+                .iter()
+                .map(|(role, curves)| Series {
+                    label: role.legend(),
+                    f_hz: &curves.f_hz,
+                    values: values_of(curves, quantity),
+                    style: role.style(),
+                })
+                .collect(),
+            y_range: None,
+        })
+        .collect();
+    let options = ChartOptions { f_range_hz: Some(f_range_hz), theme, title: None, cursor_hz: None };
+    let layout = draw_panels(area, &panels, &options)?;
+    area.present().map_err(|error| WebError::general(format!("cannot finish the plot: {error}")))?;
+    Ok(layout)
+}
+
+/// The plot as an SVG document of `width` × `height` pixels.
+///
+/// # Errors
+/// A size outside 1 … [`MAX_SVG_SIDE`], or the plot layer's error.
+pub fn svg(bench: &mut Workbench, width: u32, height: u32, theme: Theme) -> Result<String, WebError> {
+    for (what, side) in [("width", width), ("height", height)] {
+        if !(1..=MAX_SVG_SIDE).contains(&side) {
+            return Err(WebError::general(format!(
+                "an SVG {what} of {side} px is not accepted; use 1 to {MAX_SVG_SIDE}"
+            )));
+        }
+    }
+    let mut text = String::new();
+    {
+        let area = SVGBackend::with_string(&mut text, (width, height)).into_drawing_area();
+        draw(&area, bench, theme)?;
+    }
+    Ok(text)
+}
+
+fn values_of(curves: &Curves, quantity: Quantity) -> &[Option<f64>] {
+    match quantity {
+        Quantity::MagnitudeDb => &curves.magnitude_db,
+        Quantity::PhaseDeg => &curves.phase_deg,
+        Quantity::GroupDelayS => &curves.group_delay_s,
+        Quantity::ImpedanceOhm | Quantity::ImpedancePhaseDeg => &curves.input_impedance_ohm,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const RC: &str = r#"{"format": "bandwright-design", "version": 1, "name": "rc",
+        "source": {"node": "in", "resistance": 0}, "output": "out",
+        "elements": [{"ref": "R1", "kind": "resistor", "value": "1k", "nodes": ["in", "out"]},
+                     {"ref": "C1", "kind": "capacitor", "value": "100n", "nodes": ["out", "0"]}]}"#;
+
+    #[test]
+    fn svg_export_has_every_panel_and_the_legend() {
+        let mut bench = Workbench::new(RC).unwrap();
+        bench.keep_variant();
+        let text = svg(&mut bench, 800, 640, Theme::Light).unwrap();
+        assert!(text.starts_with("<svg"), "{}", &text[..40]);
+        for label in ["magnitude (dB)", "phase (°)", "group delay (s)", "|Z| (Ω)", "A (working)", "B (kept)"] {
+            assert!(text.contains(label), "missing {label}");
+        }
+        assert!(svg(&mut bench, 0, 640, Theme::Light).unwrap_err().to_string().contains("width of 0 px"));
+        let small = svg(&mut bench, 120, 80, Theme::Dark).unwrap_err().to_string();
+        assert!(small.contains("too small") || small.contains("at least"), "{small}");
+    }
+
+    #[test]
+    fn the_layout_maps_back_to_the_grid_range() {
+        let mut bench = Workbench::new(RC).unwrap();
+        let mut text = String::new();
+        let layout = {
+            let area = SVGBackend::with_string(&mut text, (800, 640)).into_drawing_area();
+            draw(&area, &mut bench, Theme::Light).unwrap()
+        };
+        assert_eq!(layout.panels.len(), 4);
+        let grid = bench.grid().frequencies();
+        for panel in &layout.panels {
+            assert_eq!(panel.f_range_hz, (grid[0], grid[grid.len() - 1]));
+        }
+        assert!(theme_named("sepia").unwrap_err().to_string().contains("light or dark"));
+    }
+}

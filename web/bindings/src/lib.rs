@@ -1,0 +1,271 @@
+//! Bandwright browser bindings: the `#[wasm_bindgen]` exports the page calls, and nothing else.
+//!
+//! The bindings are thin. They read JSON strings and numbers from JS, call the core
+//! (`bandwright`) and the plot layer (`bandwright-plot`), and hand back JSON strings, numbers and
+//! drawings. Every error becomes a thrown JS `Error` whose message is the core's text; an error
+//! about a field of the fit request or of the grid starts with `field <name>: ` (see [`error`]).
+//! The structs here are the bindings' own; no core type crosses to JS.
+//!
+//! Exports (the contract with web/app.js): `version`, `demo_design`, `demo_request`, `fit`,
+//! `check_design`, `parse_value`, `format_value`, `step_value`, `share_encode`, `share_decode`,
+//! `parts_csv`, `cautions`, `schematic` and the class `Session`.
+//!
+//! Everything but the canvas is plain Rust and unit-tested natively (`cargo test -p
+//! bandwright-web`); the `#[wasm_bindgen]` wrappers below only convert.
+
+pub mod error;
+
+pub mod values;
+
+pub mod demo;
+
+pub mod parts;
+
+pub mod schematic;
+
+pub mod session;
+
+pub mod chart;
+
+pub mod canvas;
+
+use error::WebError;
+use plotters::prelude::IntoDrawingArea;
+use wasm_bindgen::prelude::*;
+
+/// Returns the version of this build of Bandwright.
+#[wasm_bindgen]
+pub fn version() -> String {
+    env!("CARGO_PKG_VERSION").to_string()
+}
+
+/// Returns the demo design's file (JSON): the best fit of [`demo_request`], under the demo's
+/// own name.
+#[wasm_bindgen]
+pub fn demo_design() -> Result<String, JsError> {
+    Ok(demo::demo_design().map_err(js)?.to_json())
+}
+
+/// Returns the fit request (JSON) that produced the demo design.
+#[wasm_bindgen]
+pub fn demo_request() -> String {
+    serde_json::to_string_pretty(&demo::demo_request()).expect("a fit request always serializes")
+}
+
+/// Fits a requirement to standard parts and returns the core's fit result as JSON.
+///
+/// `request_json` is the core's `FitRequest`: every field as typed (text), plus `combine` and
+/// `stock`. Errors about a field start with `field <name>: `.
+#[wasm_bindgen]
+pub fn fit(request_json: &str) -> Result<String, JsError> {
+    fit_json(request_json).map_err(js)
+}
+
+/// Reads and validates a design file; returns it normalised (SI numbers, pretty JSON).
+#[wasm_bindgen]
+pub fn check_design(design_json: &str) -> Result<String, JsError> {
+    Ok(bandwright::parse_design(design_json).map_err(WebError::from).map_err(js)?.to_json())
+}
+
+/// Reads a value in engineering notation ("4k7", "100n", "2.2 µF") as `quantity`
+/// ("resistance", "capacitance", "inductance", "frequency", "ratio", "time" or "voltage").
+#[wasm_bindgen]
+pub fn parse_value(text: &str, quantity: &str) -> Result<f64, JsError> {
+    values::parse_value(text, quantity).map_err(js)
+}
+
+/// Writes a value as the core does, with an SI prefix and the unit ("4.70 kΩ").
+#[wasm_bindgen]
+pub fn format_value(value: f64, quantity: &str) -> Result<String, JsError> {
+    values::format_value(value, quantity).map_err(js)
+}
+
+/// Returns the next standard value above (`direction` +1) or below (−1) `value` in `series`:
+/// an E-series name ("E12") or the text of a stock list.
+#[wasm_bindgen]
+pub fn step_value(value: f64, series: &str, direction: f64) -> Result<f64, JsError> {
+    let direction = values::direction_from(direction).map_err(js)?;
+    values::step_value(value, series, direction).map_err(js)
+}
+
+/// Packs a design into share text for a URL fragment.
+#[wasm_bindgen]
+pub fn share_encode(design_json: &str) -> Result<String, JsError> {
+    let design = bandwright::parse_design(design_json).map_err(WebError::from).map_err(js)?;
+    Ok(bandwright::share::encode_share(&design))
+}
+
+/// Reads share text (or a whole `#…` fragment) back into a design file (JSON).
+#[wasm_bindgen]
+pub fn share_decode(text: &str) -> Result<String, JsError> {
+    Ok(bandwright::share::decode_share(text).map_err(WebError::from).map_err(js)?.to_json())
+}
+
+/// Returns the parts list of a design as CSV.
+#[wasm_bindgen]
+pub fn parts_csv(design_json: &str) -> Result<String, JsError> {
+    let design = bandwright::parse_design(design_json).map_err(WebError::from).map_err(js)?;
+    Ok(parts::parts_csv(&design))
+}
+
+/// Returns the safety cautions as a JSON array of `{title, text}`.
+#[wasm_bindgen]
+pub fn cautions() -> String {
+    cautions_json()
+}
+
+/// Returns the circuit drawing of a design: `{width, height, primitives: [...]}` (see
+/// [`schematic`]).
+#[wasm_bindgen]
+pub fn schematic(design_json: &str) -> Result<String, JsError> {
+    let design = bandwright::parse_design(design_json).map_err(WebError::from).map_err(js)?;
+    Ok(serde_json::to_string(&schematic::layout(&design)).expect("a drawing always serializes"))
+}
+
+/// The working state of the page: the working design, an optional ideal and kept variant, the
+/// grid and their sweeps; it draws the plots and answers the pointer readout.
+#[wasm_bindgen]
+pub struct Session {
+    bench: session::Workbench,
+}
+
+#[wasm_bindgen]
+impl Session {
+    /// Starts a session on a design file (JSON).
+    #[wasm_bindgen(constructor)]
+    pub fn new(design_json: &str) -> Result<Session, JsError> {
+        Ok(Session { bench: session::Workbench::new(design_json).map_err(js)? })
+    }
+
+    /// Replaces the working design; the ideal and the kept variant stay.
+    pub fn set_design(&mut self, design_json: &str) -> Result<(), JsError> {
+        self.bench.set_design(design_json).map_err(js)
+    }
+
+    /// Sets one part's value, in SI units.
+    pub fn set_part(&mut self, reference: &str, value: f64) -> Result<(), JsError> {
+        self.bench.set_part(reference, value).map_err(js)
+    }
+
+    /// Sets the ideal target (a design file), or clears it with `null`.
+    pub fn set_ideal(&mut self, design_json: Option<String>) -> Result<(), JsError> {
+        self.bench.set_ideal(design_json.as_deref()).map_err(js)
+    }
+
+    /// Keeps the working design as the variant B, drawn behind A.
+    pub fn keep_variant(&mut self) {
+        self.bench.keep_variant();
+    }
+
+    /// Drops the variant B.
+    pub fn clear_variant(&mut self) {
+        self.bench.clear_variant();
+    }
+
+    /// Sets the log grid; `null` for a field follows the design (its range, 500 points).
+    pub fn set_grid(
+        &mut self,
+        start_hz: Option<f64>,
+        stop_hz: Option<f64>,
+        points: Option<f64>,
+    ) -> Result<(), JsError> {
+        self.bench.set_grid(start_hz, stop_hz, points).map_err(js)
+    }
+
+    /// Sweeps what changed (the verified fast path where it holds).
+    pub fn sweep(&mut self) {
+        self.bench.sweep();
+    }
+
+    /// Draws magnitude, phase, group delay and |Z_in| onto `canvas`, crisp at the device pixel
+    /// ratio; `theme` is "light" or "dark".
+    pub fn draw(&mut self, canvas: &web_sys::HtmlCanvasElement, theme: &str) -> Result<(), JsError> {
+        let theme = chart::theme_named(theme).map_err(js)?;
+        let area = canvas::HidpiCanvas::new(canvas).map_err(js)?.into_drawing_area();
+        let layout = chart::draw(&area, &mut self.bench, theme).map_err(js)?;
+        self.bench.set_layout(layout);
+        Ok(())
+    }
+
+    /// The readout at a pointer position in CSS pixels of the last drawn canvas, as JSON
+    /// (`{f_hz, panel, pointer_value, values, formatted}`), or `null` off the plots.
+    pub fn readout(&mut self, x_css_px: f64, y_css_px: f64) -> String {
+        match self.bench.readout(x_css_px, y_css_px) {
+            Some(reading) => reading.to_string(),
+            None => "null".to_string(),
+        }
+    }
+
+    /// The sweep as CSV.
+    pub fn sweep_csv(&mut self) -> String {
+        self.bench.sweep_csv()
+    }
+
+    /// The plot as an SVG document.
+    pub fn plot_svg(&mut self, width: u32, height: u32, theme: &str) -> Result<String, JsError> {
+        let theme = chart::theme_named(theme).map_err(js)?;
+        chart::svg(&mut self.bench, width, height, theme).map_err(js)
+    }
+}
+
+/// The fit behind [`fit`], as plain Rust.
+///
+/// # Errors
+/// Bad JSON, a field error (`field <name>: …`) or the core's fit error.
+pub fn fit_json(request_json: &str) -> Result<String, WebError> {
+    let request: bandwright::request::FitRequest = serde_json::from_str(request_json)
+        .map_err(|error| WebError::general(format!("the fit request is not valid JSON of a fit request: {error}")))?;
+    let resolved = request.resolve()?;
+    let result = bandwright::fit::fit(&resolved.requirement, resolved.topology, &resolved.options)?;
+    Ok(result.to_json().to_string())
+}
+
+/// The cautions behind [`cautions`].
+pub fn cautions_json() -> String {
+    let list: Vec<serde_json::Value> = bandwright::cautions::CAUTIONS
+        .iter()
+        .map(|caution| serde_json::json!({"title": caution.title, "text": caution.text}))
+        .collect();
+    serde_json::Value::Array(list).to_string()
+}
+
+/// Turns an error into the JS `Error` that is thrown.
+fn js(error: WebError) -> JsError {
+    JsError::new(&error.to_string())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn fit_errors_name_their_field() {
+        let error = fit_json(r#"{"cutoff": "1kk"}"#).unwrap_err().to_string();
+        assert!(error.starts_with("field cutoff: cannot read \"1kk\""), "{error}");
+        let error = fit_json(r#"{"cutoff": "1k", "topology": "tube"}"#).unwrap_err().to_string();
+        assert!(error.starts_with("field topology: "), "{error}");
+        let error = fit_json("[1, 2").unwrap_err().to_string();
+        assert!(error.starts_with("the fit request is not valid JSON"), "{error}");
+    }
+
+    #[test]
+    fn the_demo_request_fits_to_the_demo_design() {
+        let result: serde_json::Value = serde_json::from_str(&fit_json(&demo_request()).unwrap()).unwrap();
+        let best = &result["alternatives"][0];
+        let mut design: bandwright::Design = serde_json::from_value(best["design"].clone()).unwrap();
+        let demo = demo::demo_design().unwrap();
+        design.name = demo.name.clone();
+        design.note = demo.note.clone();
+        assert_eq!(design, demo);
+        assert!(result["ideal_design"].is_object());
+        assert!(best["max_response_deviation_db"].as_f64().unwrap() >= 0.0);
+    }
+
+    #[test]
+    fn cautions_are_a_list_of_titles_and_texts() {
+        let list: Vec<serde_json::Value> = serde_json::from_str(&cautions_json()).unwrap();
+        assert_eq!(list.len(), bandwright::cautions::CAUTIONS.len());
+        assert!(list.iter().all(|c| c["title"].is_string() && c["text"].is_string()));
+        assert!(list.iter().any(|c| c["title"].as_str().unwrap().contains("Mains")));
+    }
+}
