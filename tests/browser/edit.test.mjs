@@ -4,26 +4,8 @@
 
 import { test, before, after } from "node:test";
 import assert from "node:assert/strict";
-import { openApp } from "./harness.mjs";
+import { openApp, draws, nextDraw, plotImage, ready, typeInto } from "./harness.mjs";
 
-async function ready(page) {
-  await page.waitForFunction(() => Number(document.getElementById("plot")?.dataset.draws) > 0, null, { timeout: 15_000 });
-}
-async function draws(page) {
-  return Number(await page.locator("#plot").getAttribute("data-draws"));
-}
-async function nextDraw(page, after) {
-  await page.waitForFunction((n) => Number(document.getElementById("plot").dataset.draws) > n, after);
-}
-async function plotImage(page) {
-  return page.evaluate(() => document.getElementById("plot").toDataURL());
-}
-async function typeInto(page, selector, text) {
-  const field = page.locator(selector);
-  await field.click();
-  await field.press("Control+A");
-  await field.pressSequentially(text);
-}
 /** Reads a shown value back through the core's parser. */
 async function valueOf(page, selector, quantity) {
   const text = await page.locator(selector).inputValue();

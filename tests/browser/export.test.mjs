@@ -5,11 +5,8 @@ import { test, before, after } from "node:test";
 import assert from "node:assert/strict";
 import { readFile, writeFile, mkdir } from "node:fs/promises";
 import path from "node:path";
-import { openApp, SCREENSHOT_DIR } from "./harness.mjs";
+import { openApp, SCREENSHOT_DIR, ready } from "./harness.mjs";
 
-async function ready(page) {
-  await page.waitForFunction(() => Number(document.getElementById("plot")?.dataset.draws) > 0, null, { timeout: 15_000 });
-}
 async function downloadFrom(page, selector) {
   const [download] = await Promise.all([page.waitForEvent("download"), page.click(selector)]);
   return { name: download.suggestedFilename(), bytes: await readFile(await download.path()) };

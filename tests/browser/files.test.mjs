@@ -6,17 +6,8 @@ import assert from "node:assert/strict";
 import { mkdtemp, readFile, rm } from "node:fs/promises";
 import { tmpdir } from "node:os";
 import path from "node:path";
-import { openApp } from "./harness.mjs";
+import { openApp, partValues, ready, typeInto } from "./harness.mjs";
 
-async function ready(page) {
-  await page.waitForFunction(() => Number(document.getElementById("plot")?.dataset.draws) > 0, null, { timeout: 15_000 });
-}
-async function typeInto(page, selector, text) {
-  const field = page.locator(selector);
-  await field.click();
-  await field.press("Control+A");
-  await field.pressSequentially(text);
-}
 let downloads;
 /** Clicks "Save file" and keeps the download under the name the page suggested. */
 async function save(page) {
@@ -29,9 +20,6 @@ async function save(page) {
 async function open(page, files) {
   const [chooser] = await Promise.all([page.waitForEvent("filechooser"), page.click("#act-open")]);
   await chooser.setFiles(files);
-}
-async function partsShown(page) {
-  return page.locator("#parts-body input").evaluateAll((inputs) => inputs.map((i) => i.value));
 }
 
 const MARKUP = "<img src=x onerror=alert(1)>";
@@ -57,7 +45,7 @@ test("save and open round-trip: the file picker brings back exactly the saved de
   await typeInto(page, "#design-name", "round trip");
   await typeInto(page, "#part-0", "47.5n");
   await page.locator("#part-0").press("Tab");
-  const partsSaved = await partsShown(page);
+  const partsSaved = await partValues(page);
   const first = await save(page);
   assert.equal(first.name, "round-trip.json");
   const text = await readFile(first.path, "utf8");
@@ -69,10 +57,10 @@ test("save and open round-trip: the file picker brings back exactly the saved de
   await typeInto(page, "#part-0", "1u");
   await page.locator("#part-0").press("Tab");
   await typeInto(page, "#design-name", "changed");
-  assert.notDeepEqual(await partsShown(page), partsSaved);
+  assert.notDeepEqual(await partValues(page), partsSaved);
   await open(page, first.path);
   await page.waitForFunction(() => document.getElementById("design-name").value === "round trip");
-  assert.deepEqual(await partsShown(page), partsSaved);
+  assert.deepEqual(await partValues(page), partsSaved);
   const second = await save(page);
   assert.equal(await readFile(second.path, "utf8"), text);
   assert.match(await page.locator("#notice").innerText(), /Opened “round-trip\.json”/);
@@ -81,7 +69,7 @@ test("save and open round-trip: the file picker brings back exactly the saved de
 
 test("a broken file gets a message naming the problem, and the design stays", async () => {
   const page = app.page;
-  const before = await partsShown(page);
+  const before = await partValues(page);
   const name = await page.locator("#design-name").inputValue();
   await open(page, { name: "cut-short.json", mimeType: "application/json", buffer: Buffer.from('{"format": "bandwright-design", "version": 1, "name": "x", ') });
   const message = page.locator("#open-msg");
@@ -90,7 +78,7 @@ test("a broken file gets a message naming the problem, and the design stays", as
   assert.match(text, /cut-short\.json/);
   assert.match(text, /could not be opened/);
   assert.match(text, /line \d+/, `the core's position is missing: ${text}`);
-  assert.deepEqual(await partsShown(page), before);
+  assert.deepEqual(await partValues(page), before);
   assert.equal(await page.locator("#design-name").inputValue(), name);
   await app.screenshot("error-broken-file");
 
@@ -100,7 +88,7 @@ test("a broken file gets a message naming the problem, and the design stays", as
   await open(page, { name: "bad-kind.json", mimeType: "application/json", buffer: Buffer.from(JSON.stringify(bad)) });
   await page.waitForFunction(() => document.getElementById("open-msg").textContent.includes("bad-kind.json"));
   assert.match(await message.innerText(), /flux_capacitor/);
-  assert.deepEqual(await partsShown(page), before);
+  assert.deepEqual(await partValues(page), before);
 });
 
 test("a design name containing markup is shown as text, from a file and from a link", async () => {

@@ -3,11 +3,8 @@
 
 import { test, before, after } from "node:test";
 import assert from "node:assert/strict";
-import { openApp } from "./harness.mjs";
+import { openApp, ready, typeInto } from "./harness.mjs";
 
-async function ready(page) {
-  await page.waitForFunction(() => Number(document.getElementById("plot")?.dataset.draws) > 0, null, { timeout: 15_000 });
-}
 
 /** The parts table as [ref, value text] pairs. */
 async function partsShown(page) {
@@ -16,14 +13,6 @@ async function partsShown(page) {
   );
 }
 
-/** Replaces the text of a sentence field as a person would. */
-async function typeInto(page, selector, text) {
-  const field = page.locator(selector);
-  await field.click();
-  await field.press("Control+A");
-  if (text === "") await field.press("Backspace");
-  else await field.pressSequentially(text);
-}
 
 let app;
 before(async () => {

@@ -154,3 +154,39 @@ function watchPage(app, page) {
   });
   page.on("pageerror", (error) => app.pageErrors.push(String(error?.stack ?? error)));
 }
+
+// ---------------------------------------------------------------- helpers the page tests share
+
+/** Waits until the page has drawn its plot at least once. */
+export async function ready(page) {
+  await page.waitForFunction(() => Number(document.getElementById("plot")?.dataset.draws) > 0, null, { timeout: 15_000 });
+}
+
+/** How many times the plot has been drawn (app.js counts them on the canvas). */
+export async function draws(page) {
+  return Number(await page.locator("#plot").getAttribute("data-draws"));
+}
+
+/** Waits for a draw after the `after`-th. */
+export async function nextDraw(page, after) {
+  await page.waitForFunction((n) => Number(document.getElementById("plot").dataset.draws) > n, after);
+}
+
+/** The plot canvas as a data URL, to tell whether it changed. */
+export async function plotImage(page) {
+  return page.evaluate(() => document.getElementById("plot").toDataURL());
+}
+
+/** Replaces a field's text by typing, key by key, as a person would ("" empties it). */
+export async function typeInto(page, selector, text) {
+  const field = page.locator(selector);
+  await field.click();
+  await field.press("Control+A");
+  if (text === "") await field.press("Backspace");
+  else await field.pressSequentially(text);
+}
+
+/** The part values shown in the parts table, in order. */
+export async function partValues(page) {
+  return page.locator("#parts-body input").evaluateAll((inputs) => inputs.map((i) => i.value));
+}

@@ -4,29 +4,8 @@
 
 import { test, before, after } from "node:test";
 import assert from "node:assert/strict";
-import { openApp } from "./harness.mjs";
+import { openApp, draws, nextDraw, partValues, plotImage, ready, typeInto } from "./harness.mjs";
 
-async function ready(page) {
-  await page.waitForFunction(() => Number(document.getElementById("plot")?.dataset.draws) > 0, null, { timeout: 15_000 });
-}
-async function draws(page) {
-  return Number(await page.locator("#plot").getAttribute("data-draws"));
-}
-async function nextDraw(page, after) {
-  await page.waitForFunction((n) => Number(document.getElementById("plot").dataset.draws) > n, after);
-}
-async function plotImage(page) {
-  return page.evaluate(() => document.getElementById("plot").toDataURL());
-}
-async function typeInto(page, selector, text) {
-  const field = page.locator(selector);
-  await field.click();
-  await field.press("Control+A");
-  await field.pressSequentially(text);
-}
-async function partsShown(page) {
-  return page.locator("#parts-body input").evaluateAll((inputs) => inputs.map((i) => i.value));
-}
 
 let app;
 before(async () => {
@@ -44,12 +23,12 @@ test("the working design and the requirement are autosaved and come back on relo
   await page.locator("#part-0").press("Tab");
   await typeInto(page, "#ask-cutoff", "2.5k");
   await page.locator("#ask-cutoff").press("Tab");
-  const parts = await partsShown(page);
+  const parts = await partValues(page);
   await page.waitForTimeout(400);
   await page.reload();
   await ready(page);
   assert.equal(await page.locator("#design-name").inputValue(), "autosave check");
-  assert.deepEqual(await partsShown(page), parts);
+  assert.deepEqual(await partValues(page), parts);
   assert.equal(await page.locator("#ask-cutoff").inputValue(), "2.5k");
   assert.match(await page.locator("#notice").innerText(), /Restored/);
   assert.deepEqual(app.problems(), { requests: [], consoleErrors: [], pageErrors: [] });
@@ -57,7 +36,7 @@ test("the working design and the requirement are autosaved and come back on relo
 
 test("keep a variant as B, edit A over it, swap them and drop B", async () => {
   const page = app.page;
-  const aParts = await partsShown(page);
+  const aParts = await partValues(page);
   const aImage = await plotImage(page);
   let count = await draws(page);
   await page.click("#ab-keep");
@@ -70,7 +49,7 @@ test("keep a variant as B, edit A over it, swap them and drop B", async () => {
   await page.locator("#part-0").press("Tab");
   const abImage = await plotImage(page);
   assert.notEqual(abImage, aImage);
-  const editedParts = await partsShown(page);
+  const editedParts = await partValues(page);
   assert.notDeepEqual(editedParts, aParts);
   await app.screenshot("ab-overlay");
 
@@ -87,13 +66,13 @@ test("keep a variant as B, edit A over it, swap them and drop B", async () => {
   await page.click("#ab-keep");
   await typeInto(page, "#part-0", "330n");
   await page.locator("#part-0").press("Tab");
-  const beforeSwap = await partsShown(page);
+  const beforeSwap = await partValues(page);
   await page.click("#ab-swap");
   await page.waitForFunction((v) => document.getElementById("part-0").value !== v, beforeSwap[0]);
-  assert.deepEqual(await partsShown(page), editedParts);
+  assert.deepEqual(await partValues(page), editedParts);
   await page.click("#ab-swap");
   await page.waitForFunction((v) => document.getElementById("part-0").value === v, beforeSwap[0]);
-  assert.deepEqual(await partsShown(page), beforeSwap);
+  assert.deepEqual(await partValues(page), beforeSwap);
 
   // B survives a reload too.
   await page.waitForTimeout(400);
@@ -106,14 +85,14 @@ test("keep a variant as B, edit A over it, swap them and drop B", async () => {
 
 test("Undo puts back the design a fit replaced", async () => {
   const page = app.page;
-  const before = await partsShown(page);
+  const before = await partValues(page);
   const name = await page.locator("#design-name").inputValue();
   await page.selectOption("#ask-target", "cutoff");
   await typeInto(page, "#ask-cutoff", "7k");
   await page.click("#ask-go");
   await page.waitForFunction((n) => document.getElementById("design-name").value !== n, name);
-  assert.notDeepEqual(await partsShown(page), before);
+  assert.notDeepEqual(await partValues(page), before);
   await page.click("#act-undo");
   await page.waitForFunction((n) => document.getElementById("design-name").value === n, name);
-  assert.deepEqual(await partsShown(page), before);
+  assert.deepEqual(await partValues(page), before);
 });

@@ -4,12 +4,8 @@
 
 import { test, before, after } from "node:test";
 import assert from "node:assert/strict";
-import { openApp } from "./harness.mjs";
+import { openApp, ready } from "./harness.mjs";
 
-/** Waits until the plots have been drawn at least once. */
-async function ready(page) {
-  await page.waitForFunction(() => Number(document.getElementById("plot")?.dataset.draws) > 0, null, { timeout: 15_000 });
-}
 
 /** Whether the plot canvas holds more than one colour (a drawn plot, not an empty surface). */
 async function canvasIsDrawn(page) {

@@ -4,24 +4,12 @@
 import { test, before, after } from "node:test";
 import assert from "node:assert/strict";
 import { readFile } from "node:fs/promises";
-import { openApp, PAGE_URL } from "./harness.mjs";
+import { openApp, PAGE_URL, partValues, ready, typeInto } from "./harness.mjs";
 
-async function ready(page) {
-  await page.waitForFunction(() => Number(document.getElementById("plot")?.dataset.draws) > 0, null, { timeout: 15_000 });
-}
-async function typeInto(page, selector, text) {
-  const field = page.locator(selector);
-  await field.click();
-  await field.press("Control+A");
-  await field.pressSequentially(text);
-}
 /** Clicks "Save file" and returns the downloaded design text. */
 async function savedDesign(page) {
   const [download] = await Promise.all([page.waitForEvent("download"), page.click("#act-save")]);
   return readFile(await download.path(), "utf8");
-}
-async function partsShown(page) {
-  return page.locator("#parts-body input").evaluateAll((inputs) => inputs.map((i) => i.value));
 }
 
 let app;
@@ -57,7 +45,7 @@ test("the share link holds the design in the fragment and restores it exactly", 
     assert.deepEqual(JSON.parse(restored), JSON.parse(original));
     assert.equal(restored, original);
     assert.equal(await other.page.locator("#design-name").inputValue(), "Link check: 1 kHz ∥ 10 kΩ, µ & # ?");
-    assert.deepEqual(await partsShown(other.page), await partsShown(app.page));
+    assert.deepEqual(await partValues(other.page), await partValues(app.page));
     // The fragment is dropped once read, so a reload restores the autosaved work instead.
     assert.equal(await other.page.evaluate(() => location.hash), "");
     assert.match(await other.page.locator("#notice").innerText(), /from the link/);
@@ -69,7 +57,7 @@ test("the share link holds the design in the fragment and restores it exactly", 
 
 test("a corrupt link shows its message and keeps the last good design", async () => {
   const page = app.page;
-  const before = await partsShown(page);
+  const before = await partValues(page);
   const fragment = link.slice(link.indexOf("#") + 1);
   const broken = `${PAGE_URL}#${fragment.slice(0, Math.floor(fragment.length / 2))}`;
   const tab = await app.newPage(broken);
@@ -80,7 +68,7 @@ test("a corrupt link shows its message and keeps the last good design", async ()
     assert.match(await message.innerText(), /could not be read/);
     assert.match(await message.innerText(), /unchanged/);
     // Same profile: the autosaved design (the last good one) is what the new tab shows.
-    assert.deepEqual(await partsShown(tab), before);
+    assert.deepEqual(await partValues(tab), before);
     assert.equal(await tab.locator("#design-name").inputValue(), "Link check: 1 kHz ∥ 10 kΩ, µ & # ?");
     await app.screenshot("error-corrupt-link", tab);
   } finally {

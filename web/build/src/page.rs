@@ -324,7 +324,7 @@ mod tests {
         let check = element(&page.html, "<script>", "</script>");
         let style = element(&page.html, "<style>", "</style>");
         assert!(module.contains("Object.freeze({ version, Session })"));
-        assert!(module.contains("atob(\"H4sIAAAA+/=\")"));
+        assert!(module.contains("const base64 = \"H4sIAAAA+/=\";"));
         assert!(module.contains("if (bandwright !== null) {\n// ---- web/app.js ----\ndocument.title"));
         assert!(!module.contains('\r'));
         assert!(check.contains("WebAssembly.validate"));
