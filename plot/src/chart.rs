@@ -325,7 +325,7 @@ fn draw_panel<DB: DrawingBackend>(
         .set_all_tick_mark_size(4)
         .label_style(label_style.clone())
         .axis_desc_style(label_style)
-        .y_desc(quantity.axis_description());
+        .y_desc(y_description(quantity, strip.dim_in_pixel().1, x_label_area));
     if position == StripPosition::Bottom {
         mesh.x_desc("frequency (Hz)");
     }
@@ -489,4 +489,32 @@ fn font(size_px: u32, colour: RGBColor) -> TextStyle<'static> {
 
 fn drawing_error<E: std::error::Error + Send + Sync>(error: DrawingAreaErrorKind<E>) -> PlotError {
     PlotError::Drawing(error.to_string())
+}
+
+/// The long axis description if it fits along the panel's plot height (rotated text, about
+/// 0.6 em per character, common practice for proportional fonts), else the short one.
+fn y_description(quantity: Quantity, strip_height_px: u32, x_label_area_px: u32) -> &'static str {
+    let plot_height = f64::from(strip_height_px) - f64::from(MARGIN_TOP + MARGIN_BOTTOM + x_label_area_px);
+    let long = quantity.axis_description();
+    if long.chars().count() as f64 * 0.6 * f64::from(LABEL_FONT_PX) <= plot_height {
+        long
+    } else {
+        quantity.short_axis_description()
+    }
+}
+
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // "group delay (s)" is 15 characters, about 108 px at 12 px: a 200 px strip takes it, an
+    // 80 px strip (the printed report) gets "τ (s)".
+    #[test]
+    fn low_panels_get_the_short_axis_description() {
+        assert_eq!(y_description(Quantity::GroupDelayS, 200, 0), "group delay (s)");
+        assert_eq!(y_description(Quantity::GroupDelayS, 80, 0), "τ (s)");
+        // 120 px less the margins and the frequency labels leaves 65 px for 14 characters (101 px).
+        assert_eq!(y_description(Quantity::MagnitudeDb, 120, X_LABEL_AREA), "dB");
+    }
 }

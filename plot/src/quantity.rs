@@ -30,6 +30,17 @@ impl Quantity {
         }
     }
 
+    /// Returns the short y axis description for panels too low for the long one, e.g. "τ (s)".
+    pub fn short_axis_description(self) -> &'static str {
+        match self {
+            Quantity::MagnitudeDb => "dB",
+            Quantity::PhaseDeg => "φ (°)",
+            Quantity::GroupDelayS => "τ (s)",
+            Quantity::ImpedanceOhm => "|Z| (Ω)",
+            Quantity::ImpedancePhaseDeg => "∠Z (°)",
+        }
+    }
+
     /// Returns a short lower-case name for messages, e.g. "magnitude".
     pub fn name(self) -> &'static str {
         match self {
