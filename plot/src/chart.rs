@@ -503,7 +503,6 @@ fn y_description(quantity: Quantity, strip_height_px: u32, x_label_area_px: u32)
     }
 }
 
-
 #[cfg(test)]
 mod tests {
     use super::*;
