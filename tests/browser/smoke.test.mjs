@@ -71,3 +71,22 @@ test("a browser without DecompressionStream gets a plain message naming it, not 
     await old.close();
   }
 });
+
+test("a wasm module that fails to compile gets a message naming the failure, not a stuck start", async () => {
+  const broken = await openApp({
+    waitForApp: false,
+    initScript: () => {
+      WebAssembly.compile = () => Promise.reject(new Error("compile refused by this test"));
+    },
+  });
+  try {
+    await broken.page.waitForSelector("[role=alert]", { state: "visible", timeout: 5000 });
+    assert.match(await broken.page.locator("[role=alert]").innerText(), /could not start its WebAssembly module.*compile refused by this test/);
+    // style.css hides the start notice once the alert shows.
+    assert.equal(await broken.page.locator("#starting").isVisible(), false);
+    // The bootstrap rethrows, so the failure also reaches the console as a page error.
+    assert.equal(broken.problems().requests.length, 0);
+  } finally {
+    await broken.close();
+  }
+});
