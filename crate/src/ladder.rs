@@ -455,20 +455,11 @@ impl Family {
                 let doubled: Vec<Complex64> = half.poles.iter().flat_map(|&p| [p, p]).collect();
                 Some((real_polynomial(&doubled, 1.0), 1.0))
             }
-            // (1 + s)^n: binomial coefficients; the −3 dB point sits at √(2^{1/n} − 1).
-            Family::Critical { n } => {
-                let mut d = vec![1.0];
-                for _ in 0..n {
-                    let mut next = vec![0.0; d.len() + 1];
-                    for (k, &c) in d.iter().enumerate() {
-                        next[k] += c;
-                        next[k + 1] += c;
-                    }
-                    d = next;
-                }
-                let scale = half_power_frequency(&d);
-                Some((d, scale))
-            }
+            // (1 + s)^n, whose −3 dB point sits at √(2^{1/n} − 1) = 1/critical_pole(n).
+            Family::Critical { n } => Some((
+                real_polynomial(&vec![Complex64::new(-1.0, 0.0); n], 1.0),
+                1.0 / crate::prototype::critical_pole(n),
+            )),
             Family::Butterworth { .. } | Family::Chebyshev { .. } => None,
         }
     }

@@ -360,32 +360,13 @@ fn mul(a: &[f64], b: &[f64]) -> Vec<f64> {
     out
 }
 
-/// Gaussian elimination with partial pivoting; `None` if singular.
-fn solve_linear(mut m: Vec<Vec<f64>>, mut b: Vec<f64>) -> Option<Vec<f64>> {
+/// Solves the small dense system m·x = b through nalgebra's LU with partial pivoting; `None`
+/// if it is singular or the solution is not finite.
+fn solve_linear(m: Vec<Vec<f64>>, b: Vec<f64>) -> Option<Vec<f64>> {
     let n = b.len();
-    for col in 0..n {
-        let pivot = (col..n).max_by(|&i, &j| m[i][col].abs().total_cmp(&m[j][col].abs()))?;
-        if m[pivot][col].abs() <= 1e-300 || m[pivot][col].is_nan() {
-            return None;
-        }
-        m.swap(col, pivot);
-        b.swap(col, pivot);
-        let (upper, lower) = m.split_at_mut(col + 1);
-        let pivot_row = &upper[col];
-        for (offset, row) in lower.iter_mut().enumerate() {
-            let factor = row[col] / pivot_row[col];
-            for (x, p) in row[col..].iter_mut().zip(&pivot_row[col..]) {
-                *x -= factor * p;
-            }
-            b[col + 1 + offset] -= factor * b[col];
-        }
-    }
-    let mut x = vec![0.0; n];
-    for row in (0..n).rev() {
-        let sum: f64 = (row + 1..n).map(|k| m[row][k] * x[k]).sum();
-        x[row] = (b[row] - sum) / m[row][row];
-    }
-    x.iter().all(|v| v.is_finite()).then_some(x)
+    let matrix = nalgebra::DMatrix::from_fn(n, n, |i, j| m[i][j]);
+    let x = matrix.lu().solve(&nalgebra::DVector::from_vec(b))?;
+    x.iter().all(|v| v.is_finite()).then(|| x.iter().copied().collect())
 }
 
 #[cfg(test)]
