@@ -66,7 +66,7 @@ pub use measure::{
     attenuation_db_at, gain_db_at, measure, Corner, Edge, Extremum, GainReference, MeasureError, Measurements,
     ReferenceKind,
 };
-pub use mna::{AcSystem, Detail, ElementState, Probe, Solution, SolveError};
+pub use mna::{AcSystem, Detail, ElementState, Pencil, Probe, Solution, SolveError};
 pub use modal::{Modal, ModalError};
 pub use notation::{format_quantity, format_value, parse_value, ParseError, Quantity};
 pub use prototype::{lowpass_prototype, Section, Zpk, MAX_ORDER};

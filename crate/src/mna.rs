@@ -87,6 +87,20 @@ pub struct Functionals {
     pub port_current_offset: f64,
 }
 
+impl Functionals {
+    /// The same read-outs over `n` unknowns (zeros for the internal unknowns of a [`Pencil`]).
+    ///
+    /// # Panics
+    /// If `n` is smaller than the read-outs' length.
+    pub fn padded(mut self, n: usize) -> Functionals {
+        assert!(n >= self.output.len(), "cannot pad read-outs to fewer unknowns");
+        for r in [&mut self.output, &mut self.port_voltage, &mut self.port_current] {
+            r.resize(n, 0.0);
+        }
+        self
+    }
+}
+
 /// Why a frequency could not be solved.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum SolveError {
@@ -124,6 +138,21 @@ pub struct AcSystem {
     x: Vec<Complex64>,
     dx: Vec<Complex64>,
     lu: Lu,
+}
+
+/// A circuit as a real matrix pencil G + s·C with right-hand side b (see [`AcSystem::pencil`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Pencil {
+    /// The number of unknowns, at least [`AcSystem::n_unknowns`].
+    pub n: usize,
+    /// The number of leading unknowns shared with the AC solution ([`AcSystem::n_unknowns`]).
+    pub n_base: usize,
+    /// G, n×n row-major (conductances and the constant parts of the branch equations).
+    pub g: Vec<f64>,
+    /// C, n×n row-major (capacitances, inductances and pole time constants).
+    pub c: Vec<f64>,
+    /// The right-hand side for the stimulus at its stated amplitude.
+    pub b: Vec<Complex64>,
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -376,12 +405,39 @@ impl AcSystem {
         (y, dy, b)
     }
 
-    /// The system as a matrix pencil Y(s) = G + s·C with real G and C (row-major), when every
-    /// part is polynomial in s (ideal capacitors, inductors with DCR, resistors, sources and
-    /// constant-gain controlled sources); `None` otherwise (a capacitor with ESR or a single-pole
-    /// gain). Returns (G, C, b).
-    pub fn pencil(&self) -> Option<(Vec<f64>, Vec<f64>, Vec<Complex64>)> {
-        let n = self.n_unknowns;
+    /// The system as a real matrix pencil Y(s) = G + s·C (a descriptor system C·x′ + G·x = b·u in
+    /// the time domain), when every part is rational in s; `None` otherwise (no part of today's
+    /// model is, but a measured impedance would not be).
+    ///
+    /// The first [`AcSystem::n_unknowns`] unknowns are those of the AC solution. Parts that are
+    /// rational but not polynomial in s get internal unknowns after them, so that the pencil stays
+    /// exact:
+    /// - a capacitor with ESR r gets its branch current i and its plate voltage v:
+    ///   V(a) − V(b) − r·i − v = 0 and C·v′ − i = 0 (a series r and ideal C; Ohm's and the
+    ///   capacitor law, no approximation);
+    /// - a single-pole gain A0/(1 + s/ωp) gets the state w of its pole:
+    ///   w + w′/ωp − A0·(V(c+) − V(c−)) = 0, and its branch equation becomes V(a) − V(b) − w = 0.
+    ///
+    /// Read-outs from [`AcSystem::functionals`] apply to the leading unknowns; pad them with zeros
+    /// to [`Pencil::n`].
+    pub fn pencil(&self) -> Option<Pencil> {
+        let n_base = self.n_unknowns;
+        // Internal unknowns, in element order.
+        let mut internal = vec![None; self.circuit.elements().len()];
+        let mut n = n_base;
+        for (index, element) in self.circuit.elements().iter().enumerate() {
+            match element.kind {
+                ElementKind::Capacitor { esr, .. } if esr > 0.0 => {
+                    internal[index] = Some(n);
+                    n += 2;
+                }
+                ElementKind::Vcvs { gain: crate::circuit::Gain::SinglePole { .. }, .. } => {
+                    internal[index] = Some(n);
+                    n += 1;
+                }
+                _ => {}
+            }
+        }
         let (mut g, mut c) = (vec![0.0; n * n], vec![0.0; n * n]);
         for stamp in &self.stamps {
             let at = stamp.row * n + stamp.col;
@@ -393,14 +449,51 @@ impl AcSystem {
                     c[at] -= stamp.sign * inductance;
                 }
                 StampValue::Gain(crate::circuit::Gain::Constant(a)) => g[at] += stamp.sign * a,
-                _ => return None,
+                // Stamped below through their internal unknowns.
+                StampValue::Capacitor { .. } | StampValue::Gain(crate::circuit::Gain::SinglePole { .. }) => {}
+            }
+        }
+        let slot = |node: Node| self.node_slot[node.index()];
+        for (index, element) in self.circuit.elements().iter().enumerate() {
+            let Some(k) = internal[index] else { continue };
+            let (a, b) = (slot(element.nodes.0), slot(element.nodes.1));
+            match element.kind {
+                ElementKind::Capacitor { capacitance, esr } => {
+                    let (i, v) = (k, k + 1);
+                    if let Some(a) = a {
+                        g[a * n + i] += 1.0;
+                        g[i * n + a] += 1.0;
+                    }
+                    if let Some(b) = b {
+                        g[b * n + i] -= 1.0;
+                        g[i * n + b] -= 1.0;
+                    }
+                    g[i * n + i] -= esr;
+                    g[i * n + v] -= 1.0;
+                    c[v * n + v] += capacitance;
+                    g[v * n + i] -= 1.0;
+                }
+                ElementKind::Vcvs { gain: crate::circuit::Gain::SinglePole { dc_gain, pole_hz }, control } => {
+                    let w = k;
+                    let branch = self.branch_slot[index].expect("controlled source has a branch");
+                    g[branch * n + w] -= 1.0;
+                    g[w * n + w] += 1.0;
+                    c[w * n + w] += 1.0 / (2.0 * std::f64::consts::PI * pole_hz);
+                    if let Some(p) = slot(control.0) {
+                        g[w * n + p] -= dc_gain;
+                    }
+                    if let Some(m) = slot(control.1) {
+                        g[w * n + m] += dc_gain;
+                    }
+                }
+                _ => unreachable!("only ESR capacitors and single-pole gains have internal unknowns"),
             }
         }
         let mut b = vec![Complex64::new(0.0, 0.0); n];
         for &(row, value) in &self.rhs {
             b[row] += value;
         }
-        Some((g, c, b))
+        Some(Pencil { n, n_base, g, c, b })
     }
 
     /// The read-outs of the transfer function and the stimulus port from the solution vector.

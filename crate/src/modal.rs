@@ -81,7 +81,7 @@
 //! [`Modal::solve_at`] reports 0 Hz as singular, as the LU path does.
 
 use crate::lu::Lu;
-use crate::mna::{AcSystem, Detail, Functionals, Solution, SolveError};
+use crate::mna::{AcSystem, Detail, Functionals, Pencil, Solution, SolveError};
 use nalgebra::{DMatrix, Schur};
 use num_complex::Complex64;
 use std::f64::consts::PI;
@@ -120,7 +120,7 @@ pub struct Modal {
 /// Why the modal fast path is not available for a circuit. The exact LU path always is.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum ModalError {
-    /// A part is not polynomial in s (a capacitor with ESR or a single-pole gain).
+    /// A part is not rational in s ([`AcSystem::pencil`] gives no pencil).
     NotRational,
     /// K = G + s0·C was singular at every shift tried (the circuit is singular at every
     /// frequency or nearly so).
@@ -235,7 +235,7 @@ impl fmt::Display for ModalError {
         match self {
             Self::NotRational => write!(
                 f,
-                "the circuit has a part that is not polynomial in s (a capacitor with ESR or a single-pole gain), so there is no modal fast path; {FALLBACK}"
+                "the circuit has a part that is not rational in s, so there is no modal fast path; {FALLBACK}"
             ),
             Self::Singular => write!(
                 f,
@@ -279,9 +279,8 @@ impl Modal {
     /// # Errors
     /// As [`Modal::new`].
     pub fn verified_at(system: &mut AcSystem, f_hz: &[f64]) -> Result<Modal, ModalError> {
-        let (g, c, b) = system.pencil().ok_or(ModalError::NotRational)?;
-        let functionals = system.functionals();
-        let n = system.n_unknowns();
+        let Pencil { n, g, c, b, .. } = system.pencil().ok_or(ModalError::NotRational)?;
+        let functionals = system.functionals().padded(n);
         let norm = |m: &[f64]| m.iter().map(|v| v * v).sum::<f64>().sqrt();
         let (g_norm, c_norm) = (norm(&g), norm(&c));
         let first_shift =
@@ -1213,29 +1212,62 @@ mod tests {
     }
 
     #[test]
-    fn capacitor_with_esr_is_not_rational() {
+    fn capacitor_with_esr_gets_a_modal_form_through_internal_unknowns() {
+        let (r, cap, esr) = (1e3, 1e-6, 10.0);
         let mut b = CircuitBuilder::new();
-        b.voltage_source("V1", "in", "0", 1.0, 0.0).resistor("R1", "in", "out", 1e3).add(
+        b.voltage_source("V1", "in", "0", 1.0, 0.0).resistor("R1", "in", "out", r).add(
             "C1",
-            ElementKind::Capacitor { capacitance: 1e-6, esr: 0.1 },
+            ElementKind::Capacitor { capacitance: cap, esr },
             "out",
             "0",
         );
         let mut system = system(&b, "V1");
-        assert_eq!(Modal::new(&mut system).unwrap_err(), ModalError::NotRational);
-        // The fast sweep falls back to the LU sweep itself, result for result.
-        let grid = FrequencyGrid::log(1.0, 1e6, Spacing::Points(50)).unwrap();
-        assert_eq!(sweep_fast(&mut system, &grid), sweep(&mut system, &grid, Detail::Transfer));
+        // Source: voltage divider of R and the series ESR + 1/(sC) (closed form):
+        // H = (1 + s·C·esr)/(1 + s·C·(R + esr)); one pole at −1/(C·(R + esr)).
+        let h = |s: Complex64| (1.0 + s * cap * esr) / (1.0 + s * cap * (r + esr));
+        let z = |s: Complex64| r + esr + 1.0 / (s * cap);
+        let modal = check(&mut system, &log_points(1.0, 1e7, 60), 1e-9, Some(&h), Some(&z));
+        let poles = modal.poles();
+        assert_eq!(poles.len(), 1, "{poles:?}");
+        assert!((poles[0].re + 1.0 / (cap * (r + esr))).abs() <= 1e-9 * poles[0].norm(), "{poles:?}");
     }
 
     #[test]
-    fn single_pole_gain_is_not_rational() {
+    fn single_pole_gain_gets_a_modal_form_through_its_pole_state() {
+        let (a0, pole_hz) = (1e5, 10.0);
         let mut b = CircuitBuilder::new();
         b.voltage_source("V1", "in", "0", 1.0, 0.0)
             .resistor("R1", "in", "0", 1e3)
-            .vcvs("E1", "out", "0", "in", "0", Gain::SinglePole { dc_gain: 1e5, pole_hz: 10.0 })
+            .vcvs("E1", "out", "0", "in", "0", Gain::SinglePole { dc_gain: a0, pole_hz })
             .resistor("R2", "out", "0", 1e3);
-        assert_eq!(Modal::new(&mut system(&b, "V1")).unwrap_err(), ModalError::NotRational);
+        let mut system = system(&b, "V1");
+        // Source: the gain itself, H = A0/(1 + s/ωp) (the model's definition).
+        let wp = 2.0 * PI * pole_hz;
+        let h = move |s: Complex64| a0 / (1.0 + s / wp);
+        let modal = check(&mut system, &log_points(0.1, 1e8, 60), 1e-9, Some(&h), None);
+        assert_eq!(modal.poles().len(), 1);
+        assert!((modal.poles()[0].re + wp).abs() <= 1e-9 * wp);
+    }
+
+    #[test]
+    fn a_unity_follower_with_a_single_pole_gain_closes_its_loop() {
+        // V(out) = A(s)·(V(in) − V(out)): the closed loop A/(1 + A), one pole at −ωp·(1 + A0).
+        let (a0, pole_hz) = (2e5, 5.0);
+        let mut b = CircuitBuilder::new();
+        b.voltage_source("V1", "in", "0", 1.0, 50.0)
+            .resistor("R1", "in", "0", 1e4)
+            .vcvs("E1", "out", "0", "in", "out", Gain::SinglePole { dc_gain: a0, pole_hz })
+            .resistor("RL", "out", "0", 1e3);
+        let mut system = system(&b, "V1");
+        let wp = 2.0 * PI * pole_hz;
+        let divider = 1e4 / (1e4 + 50.0);
+        // Source: closed-loop gain of a follower, A/(1 + A) with A = A0/(1 + s/ωp) (common practice).
+        let h = move |s: Complex64| {
+            let a = a0 / (1.0 + s / wp);
+            divider * a / (1.0 + a)
+        };
+        let modal = check(&mut system, &log_points(1.0, 1e9, 60), 1e-9, Some(&h), None);
+        assert!((modal.poles()[0].re + wp * (1.0 + a0)).abs() <= 1e-9 * wp * a0);
     }
 
     #[test]
