@@ -20,7 +20,8 @@
 //! [`notation`] → [`circuit`] → [`lu`] → [`mna`] → [`modal`] → [`sweep`] → [`response`] →
 //! [`measure`] → [`design`], and [`cautions`] for the safety text every adapter shows. Synthesis:
 //! [`synthesis`] → [`eseries`] → [`prototype`] → [`transform`] → [`ladder`] → [`fit`] →
-//! [`request`] (the requirement as typed); [`share`] packs a design into a link.
+//! [`request`] (the requirement as typed); [`tolerance`] spreads real parts; [`share`] packs a
+//! design into a link.
 #![deny(missing_docs)]
 
 pub mod notation;
@@ -53,6 +54,9 @@ pub mod fit;
 
 pub mod request;
 
+// Real parts: tolerance bands.
+pub mod tolerance;
+
 // Sharing a design as text.
 pub mod share;
 
@@ -74,4 +78,7 @@ pub use request::{FitRequest, RequestError, ResolvedFit};
 pub use response::Response;
 pub use share::{decode_share, encode_share, ShareError};
 pub use sweep::{sweep, FrequencyGrid, GridError, Spacing};
+pub use tolerance::{
+    Distribution, KindTolerances, ToleranceError, ToleranceOptions, TolerancePlan, ToleranceReport, TrialBatch,
+};
 pub use transform::{denormalize, target_response};

@@ -716,6 +716,69 @@ fn moment(c: &[Complex64], p: &[Complex64], weight: impl Fn(Complex64) -> Comple
 }
 
 /// The eigendecomposition at `base`, nudged off a singular shift.
+/// The finite poles of a pencil in rad/s, without eigenvectors, residues or a self-check: the
+/// eigenvalues λ of M = K⁻¹C with K = G + s0·C at s0 = ‖G‖_F/‖C‖_F (nudged as in
+/// [`Modal::new`] where K is singular), mapped to p = s0 − 1/λ (see the module doc). For repeated
+/// evaluation of a perturbed circuit, such as the pole spread of a tolerance run, where a full
+/// [`Modal`] is not needed.
+///
+/// # Errors
+/// [`ModalError::Singular`] when K is singular at every shift tried, and
+/// [`ModalError::Unconverged`] when the QR iteration does not converge.
+pub fn pencil_poles(pencil: &Pencil) -> Result<Vec<Complex64>, ModalError> {
+    let n = pencil.n;
+    let norm = |m: &[f64]| m.iter().map(|v| v * v).sum::<f64>().sqrt();
+    let (g_norm, c_norm) = (norm(&pencil.g), norm(&pencil.c));
+    if c_norm == 0.0 {
+        return Ok(Vec::new());
+    }
+    let base = if g_norm > 0.0 && (g_norm / c_norm).is_finite() { g_norm / c_norm } else { 1.0 };
+    let zero = Complex64::new(0.0, 0.0);
+    for factor in [1.0, 1.9, 0.53, 3.7, 0.27] {
+        let shift = base * factor;
+        let k: Vec<Complex64> =
+            pencil.g.iter().zip(&pencil.c).map(|(g, c)| Complex64::new(g + shift * c, 0.0)).collect();
+        let mut lu = Lu::new();
+        if lu.factor(&k, n).is_err() {
+            continue;
+        }
+        let mut m = vec![zero; n * n];
+        let mut column = vec![zero; n];
+        for j in 0..n {
+            for (i, entry) in column.iter_mut().enumerate() {
+                *entry = Complex64::new(pencil.c[i * n + j], 0.0);
+            }
+            lu.solve_in_place(&mut column);
+            for (i, entry) in column.iter().enumerate() {
+                m[i * n + j] = *entry;
+            }
+        }
+        if m.iter().any(|z| !(z.re.is_finite() && z.im.is_finite())) {
+            continue;
+        }
+        balance(&mut m, n);
+        let max_iterations = 100 * n.max(3);
+        let schur = Schur::try_new(DMatrix::from_row_slice(n, n, &m), f64::EPSILON, max_iterations)
+            .ok_or(ModalError::Unconverged { iterations: max_iterations })?;
+        let lambda = schur.eigenvalues().ok_or(ModalError::Unconverged { iterations: max_iterations })?;
+        let largest = lambda.iter().map(|l| l.norm()).fold(0.0, f64::max);
+        let zero_eigenvalue = 64.0 * n as f64 * f64::EPSILON * largest;
+        return Ok(lambda
+            .iter()
+            .filter(|l| l.norm() > zero_eigenvalue)
+            .map(|l| {
+                let p = shift - l.inv();
+                if p.norm() <= 1e3 * n as f64 * f64::EPSILON * shift {
+                    zero
+                } else {
+                    p
+                }
+            })
+            .collect());
+    }
+    Err(ModalError::Singular)
+}
+
 fn eigen_near(g: &[f64], c: &[f64], b: &[Complex64], n: usize, base: f64) -> Result<Eigen, ModalError> {
     let mut last = ModalError::Singular;
     for factor in [1.0, 1.9, 0.53, 3.7, 0.27] {
