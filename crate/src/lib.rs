@@ -20,7 +20,8 @@
 //! [`notation`] → [`circuit`] → [`lu`] → [`mna`] → [`modal`] → [`sweep`] → [`response`] →
 //! [`measure`] → [`design`], and [`cautions`] for the safety text every adapter shows. Synthesis:
 //! [`synthesis`] → [`eseries`] → [`prototype`] → [`transform`] → [`ladder`] → [`fit`] →
-//! [`request`] (the requirement as typed); [`tolerance`] spreads real parts; [`share`] packs a
+//! [`request`] (the requirement as typed); [`active`] → [`sallen_key`], [`multiple_feedback`]
+//! (op-amp RC sections and their cascades); [`tolerance`] spreads real parts; [`share`] packs a
 //! design into a link.
 #![deny(missing_docs)]
 
@@ -50,6 +51,11 @@ pub mod ladder;
 
 pub mod rc_ladder;
 
+// Active RC sections and their cascades.
+pub mod active;
+pub mod multiple_feedback;
+pub mod sallen_key;
+
 pub mod fit;
 
 pub mod request;
@@ -60,6 +66,11 @@ pub mod tolerance;
 // Sharing a design as text.
 pub mod share;
 
+pub use active::{
+    cascade_sections, design_cascade, fit_cascade, ActiveCascade, ActiveError, ActiveOptions, ActiveParts,
+    ActiveSection, ActiveTopology, CascadeSpec, FirstOrderSection, OpAmp, PartSensitivity, SectionResult,
+    SectionTarget,
+};
 pub use circuit::{Circuit, CircuitBuilder, CircuitError, Element, ElementKind, Gain, Node};
 pub use design::{parse_design, Design, DesignError, Load, Part, Source};
 pub use eseries::{PartValues, Series, StockError, StockList};
@@ -72,10 +83,12 @@ pub use measure::{
 };
 pub use mna::{AcSystem, Detail, ElementState, Pencil, Probe, Solution, SolveError};
 pub use modal::{Modal, ModalError};
+pub use multiple_feedback::{MultipleFeedbackHighPass, MultipleFeedbackLowPass};
 pub use notation::{format_quantity, format_value, parse_value, ParseError, Quantity};
 pub use prototype::{lowpass_prototype, Section, Zpk, MAX_ORDER};
 pub use request::{FitRequest, RequestError, ResolvedFit};
 pub use response::Response;
+pub use sallen_key::{SallenKeyHighPass, SallenKeyLowPass};
 pub use share::{decode_share, encode_share, ShareError};
 pub use sweep::{sweep, FrequencyGrid, GridError, Spacing};
 pub use tolerance::{
