@@ -20,7 +20,7 @@
 //! [`notation`] → [`circuit`] → [`lu`] → [`mna`] → [`modal`] → [`sweep`] → [`response`] →
 //! [`measure`] → [`design`], and [`cautions`] for the safety text every adapter shows. Synthesis:
 //! [`synthesis`] → [`eseries`] → [`prototype`] → [`transform`] → [`ladder`] → [`fit`] →
-//! [`request`] (the requirement as typed); [`share`] packs a design into a link.
+//! [`request`] (the requirement as typed); [`mask`] (spec masks and minimum orders); [`share`] packs a design into a link.
 #![deny(missing_docs)]
 
 pub mod notation;
@@ -53,6 +53,9 @@ pub mod fit;
 
 pub mod request;
 
+// Spec masks: limits, minimum orders and pass/fail checks.
+pub mod mask;
+
 // Sharing a design as text.
 pub mod share;
 
@@ -61,6 +64,10 @@ pub use design::{parse_design, Design, DesignError, Load, Part, Source};
 pub use eseries::{PartValues, Series, StockError, StockList};
 pub use ladder::{
     prototype_values, prototype_values_for, synthesize_ladder, FirstElement, LadderOptions, Prototype, Termination,
+};
+pub use mask::{
+    check, check_design, check_points, minimum_order, minimum_orders, Forbidden, ForbiddenRegion, MaskBand, MaskError,
+    MaskRegion, MaskReport, MinimumOrders, OrderChoice, RegionMargin, SpecMask,
 };
 pub use measure::{
     attenuation_db_at, gain_db_at, measure, Corner, Edge, Extremum, GainReference, MeasureError, Measurements,
