@@ -21,8 +21,8 @@
 //! [`measure`] → [`design`], and [`cautions`] for the safety text every adapter shows. Synthesis:
 //! [`synthesis`] → [`eseries`] → [`prototype`] → [`transform`] → [`ladder`] → [`fit`] →
 //! [`request`] (the requirement as typed); [`active`] → [`sallen_key`], [`multiple_feedback`]
-//! (op-amp RC sections and their cascades); [`tolerance`] spreads real parts; [`share`] packs a
-//! design into a link.
+//! (op-amp RC sections and their cascades); [`mask`] (spec masks and minimum orders);
+//! [`tolerance`] spreads real parts; [`share`] packs a design into a link.
 #![deny(missing_docs)]
 
 pub mod notation;
@@ -60,6 +60,9 @@ pub mod fit;
 
 pub mod request;
 
+// Spec masks: limits, minimum orders and pass/fail checks.
+pub mod mask;
+
 // Real parts: tolerance bands.
 pub mod tolerance;
 
@@ -76,6 +79,10 @@ pub use design::{parse_design, Design, DesignError, Load, Part, Source};
 pub use eseries::{PartValues, Series, StockError, StockList};
 pub use ladder::{
     prototype_values, prototype_values_for, synthesize_ladder, FirstElement, LadderOptions, Prototype, Termination,
+};
+pub use mask::{
+    check, check_design, check_points, minimum_order, minimum_orders, Forbidden, ForbiddenRegion, MaskBand, MaskError,
+    MaskRegion, MaskReport, MinimumOrders, OrderChoice, RegionMargin, SpecMask,
 };
 pub use measure::{
     attenuation_db_at, gain_db_at, measure, Corner, Edge, Extremum, GainReference, MeasureError, Measurements,
