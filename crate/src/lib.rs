@@ -63,7 +63,8 @@ pub mod request;
 // Spec masks: limits, minimum orders and pass/fail checks.
 pub mod mask;
 
-// Real parts: tolerance bands.
+// Real parts: tolerance bands, solved fast on ladders by series–parallel reduction.
+pub mod reduction;
 pub mod tolerance;
 
 // Sharing a design as text.
@@ -81,8 +82,8 @@ pub use ladder::{
     prototype_values, prototype_values_for, synthesize_ladder, FirstElement, LadderOptions, Prototype, Termination,
 };
 pub use mask::{
-    check, check_design, check_points, minimum_order, minimum_orders, Forbidden, ForbiddenRegion, MaskBand, MaskError,
-    MaskRegion, MaskReport, MinimumOrders, OrderChoice, RegionMargin, SpecMask,
+    minimum_order, minimum_orders, Forbidden, ForbiddenRegion, MaskBand, MaskError, MaskRegion, MaskReport,
+    MinimumOrders, OrderChoice, RegionMargin, SpecMask,
 };
 pub use measure::{
     attenuation_db_at, gain_db_at, measure, Corner, Edge, Extremum, GainReference, MeasureError, Measurements,

@@ -32,15 +32,20 @@
 //! it). The reported envelope is the union of the trials and the corners.
 //!
 //! # Solution
-//! Each trial re-stamps the MNA matrix pencil G + s·C ([`AcSystem::pencil`]) and solves it at every
-//! frequency with the banded LU of [`crate::lu`], together with the exact derivative
-//! (G + jωC)·x′ = −jC·x, so group delay is exact, not differenced. The nominal circuit is solved
-//! the same way, and a plan is refused if that disagrees with the engine's own LU path.
+//! Where the circuit is a ladder of two-terminal branches (every passive design the fitting
+//! makes), each trial is solved by series–parallel reduction ([`crate::reduction`]): O(parts)
+//! complex operations per frequency with the exact derivative. Any other circuit, and any point the
+//! reduction declines (DC with a series capacitor), re-stamps the MNA matrix pencil G + s·C
+//! ([`AcSystem::pencil`]) and solves it with the banded LU of [`crate::lu`], together with the
+//! exact derivative (G + jωC)·x′ = −jC·x. Either way the group delay is exact, not differenced.
+//! The nominal circuit is solved both ways and compared with the engine's own LU sweep: a plan is
+//! refused if the MNA path disagrees, and the reduction is dropped if it does.
 
 use crate::circuit::{Circuit, ElementKind};
 use crate::lu::Lu;
 use crate::measure::{measure, Edge, ReferenceKind, HALF_POWER_DB};
 use crate::mna::{AcSystem, Detail, Pencil, Probe};
+use crate::reduction::Reduction;
 use crate::response::Response;
 use crate::sweep::{sweep, FrequencyGrid};
 use num_complex::Complex64;
@@ -127,6 +132,8 @@ pub struct TolerancePlan {
     corners: Vec<(f64, Edge)>,
     /// The nominal pole Qs of the complex pairs, ascending.
     nominal_q: Vec<f64>,
+    /// The ladder form of the circuit, where it has one and it agrees with the engine.
+    reduction: Option<Reduction>,
 }
 
 /// The response of one trial on the plan's grid. Unsolvable points are NaN here and are skipped by
@@ -396,11 +403,22 @@ impl TolerancePlan {
             reference: measured.reference.kind,
             corners: measured.corners.iter().map(|c| (c.f_hz, c.edge)).collect(),
             nominal_q: Vec::new(),
+            reduction: None,
         };
         let ones = vec![1.0; plan.parts.len()];
         plan.nominal = plan.evaluate(&ones);
         if !agrees_with(&plan.nominal, &exact) {
             return Err(ToleranceError::NominalUnsolvable);
+        }
+        // The fast path is used only where it reproduces the engine at the nominal values.
+        plan.reduction = Reduction::new(circuit, probe);
+        if plan.reduction.is_some() {
+            let fast = plan.evaluate(&ones);
+            if agrees_with(&fast, &exact) {
+                plan.nominal = fast;
+            } else {
+                plan.reduction = None;
+            }
         }
         if options.pole_spread {
             plan.nominal_q = plan.pole_q(&ones).unwrap_or_default();
@@ -494,17 +512,39 @@ impl TolerancePlan {
                 high: nominal.clone(),
                 nominal,
             };
-            let mut column = Vec::with_capacity(trials.len());
-            for k in 0..n {
-                column.clear();
-                column.extend(trials.iter().map(|r| pick(r)[k]).filter(|v| v.is_finite()));
-                for v in corners.iter().map(|r| pick(r)[k]).filter(|v| v.is_finite()).chain(column.iter().copied()) {
+            for r in &corners {
+                for (k, &v) in pick(r).iter().enumerate().filter(|(_, v)| v.is_finite()) {
                     env.min[k] = env.min[k].min(v);
                     env.max[k] = env.max[k].max(v);
                 }
-                if !column.is_empty() {
-                    env.low[k] = percentile(&mut column, lo_q);
-                    env.high[k] = percentile(&mut column, hi_q);
+            }
+            // Frequency-major copy of the trials, filled a block of trials at a time so that
+            // both the reads and the writes stay in cache.
+            let count = trials.len();
+            let mut by_frequency = vec![0.0; n * count];
+            for (block, chunk) in trials.chunks(64).enumerate() {
+                for k in 0..n {
+                    let row = &mut by_frequency[k * count + block * 64..];
+                    for (t, r) in chunk.iter().enumerate() {
+                        row[t] = pick(r)[k];
+                    }
+                }
+            }
+            for k in 0..n {
+                let column = &mut by_frequency[k * count..(k + 1) * count];
+                let mut finite = 0;
+                for t in 0..count {
+                    let v = column[t];
+                    if v.is_finite() {
+                        env.min[k] = env.min[k].min(v);
+                        env.max[k] = env.max[k].max(v);
+                        column[finite] = v;
+                        finite += 1;
+                    }
+                }
+                if finite > 0 {
+                    env.low[k] = percentile(&mut column[..finite], lo_q);
+                    env.high[k] = percentile(&mut column[..finite], hi_q);
                 }
             }
             env
@@ -601,23 +641,35 @@ impl TolerancePlan {
         circuit
     }
 
-    /// Solves the circuit with the given multipliers at every grid frequency.
+    /// Solves the circuit with the given multipliers at every grid frequency: by series–parallel
+    /// reduction where the circuit is a ladder ([`crate::reduction`]), and by the MNA pencil
+    /// otherwise and at any point the reduction declines.
     pub fn evaluate(&self, multipliers: &[f64]) -> TrialResponse {
-        let circuit = self.circuit_with(multipliers);
-        let system = AcSystem::new(&circuit, &self.probe);
-        let functionals = system.functionals();
-        let output = &functionals.output;
         let mut response = TrialResponse::empty(self.f_hz.len());
-        let Some(pencil) = system.pencil() else {
-            return response;
-        };
-        let mut solver = PencilSolver::new(&pencil);
+        let mut values: Vec<f64> = self.circuit.elements().iter().map(|e| e.kind.primary_value()).collect();
+        for (part, m) in self.parts.iter().zip(multipliers) {
+            values[part.element] = part.nominal * m;
+        }
+        // The MNA path, built only when needed.
+        let mut mna: Option<Option<(PencilSolver, Vec<f64>)>> = None;
         let mut previous_phase: Option<f64> = None;
         for (k, &f) in self.f_hz.iter().enumerate() {
             let omega = 2.0 * PI * f;
-            let Some((h, dh)) = solver.solve(omega, output) else { continue };
+            let fast = self.reduction.as_ref().and_then(|r| r.solve(omega, &values));
+            let solved = fast.or_else(|| {
+                let (solver, output) = mna
+                    .get_or_insert_with(|| {
+                        let circuit = self.circuit_with(multipliers);
+                        let system = AcSystem::new(&circuit, &self.probe);
+                        let output = system.functionals().output;
+                        system.pencil().map(|pencil| (PencilSolver::new(&pencil), output))
+                    })
+                    .as_mut()?;
+                solver.solve(omega, output)
+            });
+            let Some((h, dh)) = solved else { continue };
             let ratio = dh / h;
-            let gain_db = 20.0 * h.norm().log10();
+            let gain_db = 10.0 * h.norm_sqr().log10();
             if !(gain_db.is_finite() && ratio.re.is_finite() && ratio.im.is_finite()) {
                 continue;
             }
@@ -865,13 +917,17 @@ fn agrees_with(nominal: &TrialResponse, exact: &Response) -> bool {
 }
 
 /// The q-quantile of `values` (0 ≤ q ≤ 1) by linear interpolation between order statistics
-/// (numpy's default "linear" method).
+/// (numpy's default "linear" method). Reorders `values`; O(n) by selection.
 fn percentile(values: &mut [f64], q: f64) -> f64 {
-    values.sort_unstable_by(f64::total_cmp);
     let position = q * (values.len() - 1) as f64;
     let below = position.floor() as usize;
-    let above = (below + 1).min(values.len() - 1);
-    values[below] + (position - below as f64) * (values[above] - values[below])
+    let (_, &mut low, rest) = values.select_nth_unstable_by(below, f64::total_cmp);
+    let fraction = position - below as f64;
+    if fraction == 0.0 || rest.is_empty() {
+        return low;
+    }
+    let high = rest.iter().copied().fold(f64::INFINITY, f64::min);
+    low + fraction * (high - low)
 }
 
 fn summary(nominal: f64, values: &mut [f64], corners: &[f64], missing: usize, lo: f64, hi: f64) -> Spread {
@@ -1060,6 +1116,33 @@ mod tests {
             TolerancePlan::new(&circuit, &probe, &grid(10.0, 1e8, 90), &options(20, Distribution::Uniform)).unwrap();
         assert_eq!(plan.parts().iter().map(|p| p.reference.as_str()).collect::<Vec<_>>(), ["R1", "C1", "RL"]);
         assert_eq!(plan.run().trials, 20);
+    }
+
+    #[test]
+    fn trials_on_the_ladder_path_match_the_engine_with_the_same_values() {
+        let mut b = CircuitBuilder::new();
+        b.voltage_source("V1", "n1", "0", 1.0, 50.0)
+            .capacitor("C1", "n1", "0", 3.2e-9)
+            .inductor("L2", "n1", "n2", 12.9e-6)
+            .capacitor("C3", "n2", "0", 3.2e-9)
+            .resistor("RL", "n2", "0", 50.0);
+        let circuit = b.build().unwrap();
+        let probe = Probe::new(&circuit, "V1", "n2", "0").unwrap();
+        let g = grid(1e4, 1e8, 70);
+        let plan = TolerancePlan::new(&circuit, &probe, &g, &options(5, Distribution::Normal)).unwrap();
+        assert!(plan.reduction.is_some(), "an LC ladder takes the reduction path");
+        for trial in 0..5 {
+            let m = plan.trial_multipliers(trial);
+            let fast = plan.evaluate(&m);
+            let mut system = AcSystem::new(&plan.circuit_with(&m), &probe);
+            let exact = sweep(&mut system, &g, Detail::Transfer);
+            let (gain, delay) = (exact.magnitude_db(), exact.group_delay_s());
+            for k in 0..g.len() {
+                assert!((fast.gain_db[k] - gain[k].unwrap()).abs() < 1e-9, "gain at {k}");
+                let d = delay[k].unwrap();
+                assert!((fast.group_delay_s[k] - d).abs() < 1e-9 * d.abs().max(1e-12), "delay at {k}");
+            }
+        }
     }
 
     #[test]
