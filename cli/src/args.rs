@@ -21,8 +21,68 @@ pub enum Command {
     Info(InfoArgs),
     /// Fit a requirement to standard parts and print the best alternatives.
     Fit(Box<FitArgs>),
+    /// Tolerance run: Monte Carlo trials with a fixed seed plus worst-case corners; envelopes,
+    /// -3 dB and Q spread, and the yield against a mask.
+    Spread(SpreadArgs),
     /// Print the safety cautions that apply to building filters and crossovers.
     Cautions,
+}
+
+/// Output formats of `spread`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum SpreadFormat {
+    /// A readable summary and a thinned envelope table.
+    Table,
+    /// The envelopes at every frequency, with a header row.
+    Csv,
+    /// One JSON object: parts, envelopes, spreads and the mask yield.
+    Json,
+}
+
+/// Flags of `spread`.
+#[derive(Debug, Args)]
+pub struct SpreadArgs {
+    /// The design file (JSON, format "bandwright-design").
+    pub design: PathBuf,
+    /// The frequency grid.
+    #[command(flatten)]
+    pub grid: GridArgs,
+    /// Monte Carlo trials (0 for the corners only).
+    #[arg(long, value_name = "N", default_value = "2000")]
+    pub trials: String,
+    /// The seed; the same seed gives the same trials, whatever the thread count.
+    #[arg(long, value_name = "SEED", default_value = "1")]
+    pub seed: String,
+    /// uniform (within ±tolerance) or normal (tolerance = 3σ).
+    #[arg(long, value_name = "DIST", default_value = "uniform")]
+    pub distribution: String,
+    /// Resistor tolerance in percent.
+    #[arg(long, value_name = "PCT", default_value = "1")]
+    pub tol_r: String,
+    /// Capacitor tolerance in percent.
+    #[arg(long, value_name = "PCT", default_value = "5")]
+    pub tol_c: String,
+    /// Inductor tolerance in percent.
+    #[arg(long, value_name = "PCT", default_value = "10")]
+    pub tol_l: String,
+    /// One part's tolerance, replacing its kind's, e.g. --tol C2=1% (repeatable; 0 holds it fixed).
+    #[arg(long, value_name = "REF=PCT")]
+    pub tol: Vec<String>,
+    /// The central share of trials in the percentile band, in percent.
+    #[arg(long, value_name = "PCT", default_value = "90")]
+    pub band: String,
+    /// Skip the worst-case corners.
+    #[arg(long)]
+    pub no_corners: bool,
+    /// A spec mask file (JSON) to count the yield against.
+    #[arg(long, value_name = "FILE")]
+    pub mask: Option<PathBuf>,
+    /// Threads [default: every core].
+    #[arg(long, value_name = "N")]
+    pub threads: Option<String>,
+    /// Output format.
+    #[arg(long, value_enum, default_value = "table")]
+    pub format: SpreadFormat,
 }
 
 /// Output formats of `fit`.

@@ -8,6 +8,7 @@
 mod args;
 mod options;
 mod output;
+mod spread;
 mod svg;
 
 use anyhow::{Context, Result};
@@ -54,6 +55,13 @@ fn run(cli: args::Cli) -> Result<()> {
                     .with_context(|| format!("cannot write the design to {}", path.display()))?;
             }
             print!("{}", output::render_fit(&result, command.format));
+            Ok(())
+        }
+        args::Command::Spread(raw) => {
+            let options = spread::SpreadOptions::from_args(raw)?;
+            let design = read_design(&options.design)?;
+            let run = spread::run(&design, &options)?;
+            print!("{}", spread::render(&run, options.format));
             Ok(())
         }
         args::Command::Cautions => {

@@ -64,7 +64,8 @@ impl InfoOptions {
 }
 
 impl GridRequest {
-    fn from_args(raw: &GridArgs, default_per_decade: f64) -> Result<Self> {
+    /// Validates the grid flags; `default_per_decade` applies when neither count is given.
+    pub fn from_args(raw: &GridArgs, default_per_decade: f64) -> Result<Self> {
         let from_hz = raw.from.as_deref().map(|t| frequency("--from", t)).transpose()?;
         let to_hz = raw.to.as_deref().map(|t| frequency("--to", t)).transpose()?;
         let spacing = match (&raw.points, &raw.per_decade) {

@@ -108,7 +108,8 @@ pub enum MaskBand {
 }
 
 /// A part of the mask.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize)]
+#[serde(rename_all = "snake_case")]
 pub enum MaskRegion {
     /// The passband loss limit.
     Passband,
@@ -119,7 +120,8 @@ pub enum MaskRegion {
 }
 
 /// Which side of a gain limit is forbidden.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
 pub enum Forbidden {
     /// Gains above the limit are outside the mask (a stopband).
     Above,
@@ -131,7 +133,7 @@ pub enum Forbidden {
 ///
 /// The gain limit is relative to the passband reference gain (0 dB = the largest passband gain);
 /// add the measured reference to draw it on an absolute scale.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct ForbiddenRegion {
     /// Which limit this is.
     pub region: MaskRegion,
@@ -146,7 +148,7 @@ pub struct ForbiddenRegion {
 }
 
 /// How one region of the mask is met.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct RegionMargin {
     /// The region.
     pub region: MaskRegion,
@@ -166,7 +168,7 @@ pub struct RegionMargin {
 }
 
 /// The result of checking a response against a mask.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct MaskReport {
     /// Whether every region is met: each margin ≥ −1e-9 dB (−1e-9 of the delay limit), so that a
     /// limit met exactly in exact arithmetic (the ripple of a Chebyshev design whose ripple equals

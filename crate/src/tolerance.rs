@@ -230,6 +230,19 @@ pub struct ToleranceReport {
     pub q: Vec<Spread>,
 }
 
+/// How a tolerance run fares against a spec mask.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct MaskYield {
+    /// Trials inside the mask.
+    pub passed: usize,
+    /// Trials checked.
+    pub trials: usize,
+    /// The nominal design's report.
+    pub nominal: crate::mask::MaskReport,
+    /// The spread of each trial's worst margin (negative: outside the mask).
+    pub worst_margin: Spread,
+}
+
 /// A varied part in a report.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct PartSummary {
@@ -270,6 +283,11 @@ pub enum ToleranceError {
     NothingVaries,
     /// The nominal circuit cannot be solved at any frequency of the grid.
     NominalUnsolvable,
+    /// The design does not make a circuit.
+    Design {
+        /// What is wrong with it.
+        message: String,
+    },
 }
 
 impl fmt::Display for ToleranceError {
@@ -300,6 +318,7 @@ impl fmt::Display for ToleranceError {
                 f,
                 "the nominal circuit cannot be solved at any frequency of the sweep; check the design's connections"
             ),
+            Self::Design { message } => write!(f, "{message}"),
         }
     }
 }
@@ -339,7 +358,22 @@ impl Distribution {
 }
 
 impl TolerancePlan {
-    /// Compiles a run over `grid` for `circuit` measured by `probe`.
+    /// Compiles a run over `grid` for a design: its parts vary, its source and load do not.
+    ///
+    /// # Errors
+    /// [`ToleranceError::Design`] when the design does not make a circuit, and as
+    /// [`TolerancePlan::new`].
+    pub fn for_design(
+        design: &crate::design::Design,
+        grid: &FrequencyGrid,
+        options: &ToleranceOptions,
+    ) -> Result<TolerancePlan, ToleranceError> {
+        let (circuit, probe) = design.to_circuit().map_err(|e| ToleranceError::Design { message: e.to_string() })?;
+        let fixed = [crate::design::LOAD_R_REF, crate::design::LOAD_C_REF];
+        Self::with_fixed(&circuit, &probe, grid, options, &fixed)
+    }
+
+    /// Compiles a run over `grid` for `circuit` measured by `probe`; every R, L and C varies.
     ///
     /// # Errors
     /// [`ToleranceError`] for a bad option, a per-part tolerance naming no varying part, nothing
@@ -349,6 +383,21 @@ impl TolerancePlan {
         probe: &Probe,
         grid: &FrequencyGrid,
         options: &ToleranceOptions,
+    ) -> Result<TolerancePlan, ToleranceError> {
+        Self::with_fixed(circuit, probe, grid, options, &[])
+    }
+
+    /// As [`TolerancePlan::new`], with the parts named in `fixed` held at their values.
+    ///
+    /// # Errors
+    /// [`ToleranceError`] for a bad option, a per-part tolerance naming no varying part, nothing
+    /// to vary, or a nominal circuit that no frequency of the grid solves.
+    pub fn with_fixed(
+        circuit: &Circuit,
+        probe: &Probe,
+        grid: &FrequencyGrid,
+        options: &ToleranceOptions,
+        fixed: &[&str],
     ) -> Result<TolerancePlan, ToleranceError> {
         if options.trials > MAX_TRIALS {
             return Err(ToleranceError::BadTrials { trials: options.trials });
@@ -375,6 +424,9 @@ impl TolerancePlan {
                 ElementKind::Inductor { inductance, .. } => (inductance, kinds.inductor),
                 _ => continue,
             };
+            if fixed.contains(&element.reference.as_str()) {
+                continue;
+            }
             parts.push(VariedPart { reference: element.reference.clone(), element: index, nominal, tolerance });
         }
         for (reference, value) in &options.by_part {
@@ -606,6 +658,39 @@ impl TolerancePlan {
             corner_hz,
             q,
         }
+    }
+
+    /// The yield of the trials against a spec mask: how many pass, with the nominal design's
+    /// report and the spread of the worst margin (dB, or the delay limit's unit where that is
+    /// the worst region) over the trials.
+    ///
+    /// # Errors
+    /// The mask's own errors ([`crate::mask::check_points`]), such as a grid that does not cover
+    /// the passband or stopband: sweep wider.
+    pub fn mask_yield(&self, batches: &[TrialBatch], mask: &crate::mask::SpecMask) -> Result<MaskYield, crate::mask::MaskError> {
+        let check = |r: &TrialResponse| {
+            let finite = |v: &[f64]| v.iter().map(|x| x.is_finite().then_some(*x)).collect::<Vec<_>>();
+            let delays = if mask.max_group_delay_variation_s.is_some() { finite(&r.group_delay_s) } else { Vec::new() };
+            crate::mask::check_points(mask, &self.f_hz, &finite(&r.gain_db), &delays)
+        };
+        let nominal = check(&self.nominal)?;
+        let (mut passed, mut trials) = (0, 0);
+        let mut margins = Vec::new();
+        for batch in batches.iter().filter(|b| !b.trials.is_empty()) {
+            for response in &batch.responses {
+                trials += 1;
+                if let Ok(report) = check(response) {
+                    if report.pass {
+                        passed += 1;
+                    }
+                    margins.push(report.worst_margin_db);
+                }
+            }
+        }
+        let (lo, hi) = ((1.0 - self.options.band) / 2.0, (1.0 + self.options.band) / 2.0);
+        let unchecked = trials - margins.len();
+        let worst_margin = summary(nominal.worst_margin_db, &mut margins, &[], unchecked, lo, hi);
+        Ok(MaskYield { passed, trials, nominal, worst_margin })
     }
 
     /// The fraction of trial responses for which `passes` holds (NaN-free: 0 with no trials).
