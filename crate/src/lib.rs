@@ -18,9 +18,10 @@
 //!
 //! # Reading order
 //! [`notation`] → [`circuit`] → [`lu`] → [`mna`] → [`modal`] → [`sweep`] → [`response`] →
-//! [`measure`] → [`design`], and [`cautions`] for the safety text every adapter shows. Synthesis:
-//! [`synthesis`] → [`eseries`] → [`prototype`] → [`transform`] → [`ladder`] → [`fit`] →
-//! [`request`] (the requirement as typed); [`share`] packs a design into a link.
+//! [`measure`] → [`transient`] (step and impulse responses) → [`design`], and [`cautions`] for
+//! the safety text every adapter shows. Synthesis: [`synthesis`] → [`eseries`] → [`prototype`] →
+//! [`transform`] → [`ladder`] → [`fit`] → [`request`] (the requirement as typed); [`share`]
+//! packs a design into a link.
 #![deny(missing_docs)]
 
 pub mod notation;
@@ -33,6 +34,7 @@ pub mod mna;
 pub mod modal;
 pub mod response;
 pub mod sweep;
+pub mod transient;
 
 pub mod cautions;
 
@@ -67,7 +69,7 @@ pub use measure::{
     ReferenceKind,
 };
 pub use mna::{AcSystem, Detail, ElementState, Pencil, Probe, Solution, SolveError};
-pub use modal::{Modal, ModalError};
+pub use modal::{Modal, ModalError, PartialFractions};
 pub use notation::{format_quantity, format_value, parse_value, ParseError, Quantity};
 pub use prototype::{lowpass_prototype, Section, Zpk, MAX_ORDER};
 pub use request::{FitRequest, RequestError, ResolvedFit};
@@ -75,3 +77,8 @@ pub use response::Response;
 pub use share::{decode_share, encode_share, ShareError};
 pub use sweep::{sweep, FrequencyGrid, GridError, Spacing};
 pub use transform::{denormalize, target_response};
+pub use transient::{
+    impulse_response, step_response, ImpulseResponse, Method, MethodChoice, Rise, SettleTolerance, Settling,
+    SettlingReference, Span, StepMetrics, StepResponse, TimeGrid, TimePoint, TimeResponse, TransientError,
+    TransientOptions,
+};
