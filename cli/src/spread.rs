@@ -42,7 +42,9 @@ impl SpreadOptions {
         let distribution = match raw.distribution.trim().to_ascii_lowercase().as_str() {
             "uniform" => Distribution::Uniform,
             "normal" => Distribution::Normal,
-            other => bail!("--distribution {other}: use uniform (equally likely within ±tolerance) or normal (tolerance = 3σ)"),
+            other => bail!(
+                "--distribution {other}: use uniform (equally likely within ±tolerance) or normal (tolerance = 3σ)"
+            ),
         };
         let by_kind = KindTolerances {
             resistor: percent("--tol-r", &raw.tol_r)?,
@@ -61,8 +63,9 @@ impl SpreadOptions {
             Some(path) => {
                 let text = std::fs::read_to_string(path)
                     .with_context(|| format!("--mask: cannot read mask file {}", path.display()))?;
-                let mask: SpecMask = serde_json::from_str(&text)
-                    .with_context(|| format!("--mask {}: not a spec mask (see examples/*.mask.json)", path.display()))?;
+                let mask: SpecMask = serde_json::from_str(&text).with_context(|| {
+                    format!("--mask {}: not a spec mask (see examples/*.mask.json)", path.display())
+                })?;
                 mask.validate().with_context(|| format!("--mask {}", path.display()))?;
                 Some(mask)
             }

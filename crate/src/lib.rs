@@ -18,11 +18,12 @@
 //!
 //! # Reading order
 //! [`notation`] → [`circuit`] → [`lu`] → [`mna`] → [`modal`] → [`sweep`] → [`response`] →
-//! [`measure`] → [`design`], and [`cautions`] for the safety text every adapter shows. Synthesis:
-//! [`synthesis`] → [`eseries`] → [`prototype`] → [`transform`] → [`ladder`] → [`fit`] →
-//! [`request`] (the requirement as typed); [`active`] → [`sallen_key`], [`multiple_feedback`]
-//! (op-amp RC sections and their cascades); [`mask`] (spec masks and minimum orders);
-//! [`tolerance`] spreads real parts; [`share`] packs a design into a link.
+//! [`measure`] → [`transient`] (step and impulse responses) → [`design`], and [`cautions`] for
+//! the safety text every adapter shows. Synthesis: [`synthesis`] → [`eseries`] → [`prototype`] →
+//! [`transform`] → [`ladder`] → [`fit`] → [`request`] (the requirement as typed); [`active`] →
+//! [`sallen_key`], [`multiple_feedback`] (op-amp RC sections and their cascades); [`mask`] (spec
+//! masks and minimum orders); [`tolerance`] spreads real parts; [`share`] packs a design into a
+//! link.
 #![deny(missing_docs)]
 
 pub mod notation;
@@ -35,6 +36,7 @@ pub mod mna;
 pub mod modal;
 pub mod response;
 pub mod sweep;
+pub mod transient;
 
 pub mod cautions;
 
@@ -90,7 +92,7 @@ pub use measure::{
     ReferenceKind,
 };
 pub use mna::{AcSystem, Detail, ElementState, Pencil, Probe, Solution, SolveError};
-pub use modal::{Modal, ModalError};
+pub use modal::{Modal, ModalError, PartialFractions};
 pub use multiple_feedback::{MultipleFeedbackHighPass, MultipleFeedbackLowPass};
 pub use notation::{format_quantity, format_value, parse_value, ParseError, Quantity};
 pub use prototype::{lowpass_prototype, Section, Zpk, MAX_ORDER};
@@ -103,3 +105,8 @@ pub use tolerance::{
     Distribution, KindTolerances, ToleranceError, ToleranceOptions, TolerancePlan, ToleranceReport, TrialBatch,
 };
 pub use transform::{denormalize, target_response};
+pub use transient::{
+    impulse_response, step_response, ImpulseResponse, Method, MethodChoice, Rise, SettleTolerance, Settling,
+    SettlingReference, Span, StepMetrics, StepResponse, TimeGrid, TimePoint, TimeResponse, TransientError,
+    TransientOptions,
+};

@@ -76,7 +76,10 @@
 //! [`ModalError::Inaccurate`]; callers then use the LU path, which is exact.
 //!
 //! # Poles
-//! [`Modal::poles`] returns the finite poles p_i = s0 − 1/λ_i in rad/s. A pole within
+//! [`Modal::poles`] returns the finite poles p_i = s0 − 1/λ_i in rad/s, and
+//! [`Modal::transfer_partial_fractions`] the plain form d + Σ ρ_i/(s − p_i) of H before step 3,
+//! for the time domain ([`crate::transient`]). [`Modal::pencil_poles`] gives the poles alone,
+//! without a verified basis, for a time scale where the basis is refused. A pole within
 //! 1000·n·ε·s0 of the origin is set to exactly 0 (a node that floats at DC), so that
 //! [`Modal::solve_at`] reports 0 Hz as singular, as the LU path does.
 
@@ -117,6 +120,25 @@ pub struct Modal {
     condition: f64,
 }
 
+/// A read-out in plain partial-fraction form, r·x(s) = direct + Σ_i residue_i / (s − pole_i).
+///
+/// For the transfer function H = V(out)/EMF the direct term is H(∞) (dimensionless for a voltage
+/// stimulus, Ω for a current stimulus), poles are in rad/s and residues in the unit of H times
+/// rad/s. Real poles have real residues; a complex pole and its conjugate are both listed, with
+/// exactly conjugate poles and residues. A residue that the decomposition found to be rounding
+/// noise is exactly zero (its pole is then invisible in this read-out, such as a node that floats
+/// at DC).
+#[derive(Debug, Clone, PartialEq)]
+pub struct PartialFractions {
+    /// The direct term d = r·x(∞) (the constant offset included).
+    pub direct: f64,
+    /// (pole, residue) pairs in the order of [`Modal::poles`].
+    pub terms: Vec<(Complex64, Complex64)>,
+    /// The 1-norm condition number of the eigenvector basis the residues come from; the residues'
+    /// relative rounding error grows with it (about ε times it).
+    pub condition: f64,
+}
+
 /// Why the modal fast path is not available for a circuit. The exact LU path always is.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum ModalError {
@@ -151,6 +173,9 @@ struct Readout {
     below: Form,
     /// Used for |s| at or above `Modal::scale`.
     above: Form,
+    /// The plain partial-fraction form d + Σ ρ_i/(s − p_i) from which both forms derive, kept
+    /// for [`Modal::transfer_partial_fractions`].
+    plain: PartialFractions,
 }
 
 /// f(s) = direct + ŝ^power · S(s), ŝ = s / scale, with
@@ -367,6 +392,76 @@ impl Modal {
         self.poles.clone()
     }
 
+    /// The transfer function's plain partial-fraction form H(s) = d + Σ ρ_i/(s − p_i), over the
+    /// poles of [`Modal::poles`] in the same order (see [`PartialFractions`]).
+    ///
+    /// This is the form before the stop-band rewriting of the module doc (step 3): exact algebra
+    /// for H, but summed as it stands it loses relative accuracy where |H| is far below its
+    /// terms. It is the natural form for the time domain, where the step response is
+    /// d + Σ ρ_i·(e^{p_i t} − 1)/p_i.
+    pub fn transfer_partial_fractions(&self) -> PartialFractions {
+        self.transfer.plain.clone()
+    }
+
+    /// The 1-norm condition number of the eigenvector basis (at most [`MAX_CONDITION`]).
+    pub fn condition(&self) -> f64 {
+        self.condition
+    }
+
+    /// The finite poles of the pencil of `system` in rad/s, without building or verifying a
+    /// modal form: for a time scale where [`Modal::new`] refuses the basis (repeated poles).
+    ///
+    /// The eigenvalues come from the same shifted Schur form as [`Modal::new`] (module doc,
+    /// steps 1, 2 and 4); a pole of multiplicity m is accurate only to about ε^(1/m) of its
+    /// magnitude, which is ample for a time scale. A pole near the origin is set to exactly 0 as
+    /// in [`Modal::poles`]; conjugate pairs are not made exactly conjugate.
+    ///
+    /// # Errors
+    /// [`ModalError::NotRational`] without a pencil, [`ModalError::Singular`] when K = G + s0·C is
+    /// singular at every shift tried, [`ModalError::Unconverged`] when the QR iteration fails.
+    pub fn pencil_poles(system: &AcSystem) -> Result<Vec<Complex64>, ModalError> {
+        let Pencil { n, g, c, b, .. } = system.pencil().ok_or(ModalError::NotRational)?;
+        let norm = |m: &[f64]| m.iter().map(|v| v * v).sum::<f64>().sqrt();
+        let (g_norm, c_norm) = (norm(&g), norm(&c));
+        let first_shift =
+            if c_norm > 0.0 && g_norm > 0.0 && (g_norm / c_norm).is_finite() { g_norm / c_norm } else { 1.0 };
+        let poles_near = |base: f64| -> Result<Vec<Complex64>, ModalError> {
+            let mut last = ModalError::Singular;
+            for factor in [1.0, 1.9, 0.53, 3.7, 0.27] {
+                let shift = base * factor;
+                match shifted_schur(&g, &c, &b, n, shift) {
+                    Ok(schur) => {
+                        let zero_eigenvalue = 64.0 * n as f64 * f64::EPSILON * schur.t_norm;
+                        return Ok((0..n)
+                            .map(|i| schur.t[(i, i)])
+                            .filter(|lambda| lambda.norm() > zero_eigenvalue)
+                            .map(|lambda| {
+                                let p = shift - lambda.inv();
+                                if p.norm() <= 1e3 * n as f64 * f64::EPSILON * shift {
+                                    Complex64::new(0.0, 0.0)
+                                } else {
+                                    p
+                                }
+                            })
+                            .collect());
+                    }
+                    Err(ModalError::Singular) => continue,
+                    Err(error) => last = error,
+                }
+            }
+            Err(last)
+        };
+        let poles = poles_near(first_shift)?;
+        let magnitudes: Vec<f64> = poles.iter().map(|p| p.norm()).collect();
+        let scale = geometric_mean(&magnitudes);
+        if !(0.5..=2.0).contains(&(scale / first_shift)) {
+            if let Ok(preferred) = poles_near(scale) {
+                return Ok(preferred);
+            }
+        }
+        Ok(poles)
+    }
+
     /// S and dS/ds for H, and S for the port voltage and current (see [`Form`]), at `N`
     /// frequencies that use one form; `None` if any of them lies on a pole.
     fn sums<const N: usize>(&self, omega: [f64; N], above: bool) -> Option<[Sums; N]> {
@@ -548,6 +643,11 @@ impl Readout {
             })
             .collect();
         let scaled: Vec<Complex64> = poles.iter().map(|p| p / scale).collect();
+        let plain_form = PartialFractions {
+            direct: direct.re,
+            terms: plain_terms(&residues, poles, layout),
+            condition: eigen.condition,
+        };
         let plain = Form::new(0, direct, &residues, poles, layout);
         let n_poles = residues.len();
 
@@ -600,7 +700,7 @@ impl Readout {
         };
         let below = if at_dc > 0 { deflated(at_dc as i32) } else { None }.unwrap_or_else(|| plain.clone());
         let above = if at_infinity > 0 { deflated(-(at_infinity as i32)) } else { None }.unwrap_or(plain);
-        Readout { below, above }
+        Readout { below, above, plain: plain_form }
     }
 
     fn form(&self, above: bool) -> &Form {
@@ -690,6 +790,24 @@ impl Form {
     }
 }
 
+/// The (pole, residue) list in pole order, laid out as [`Form::new`] reads it: a real pole gets
+/// the real part of its residue, and a conjugate pair gets c and c̄ with c the mean of the upper
+/// residue and the conjugate of the lower one.
+fn plain_terms(residues: &[Complex64], poles: &[Complex64], layout: &Layout) -> Vec<(Complex64, Complex64)> {
+    let mut terms: Vec<(Complex64, Complex64)> = poles.iter().copied().zip(residues.iter().copied()).collect();
+    for &k in &layout.singles {
+        if poles[k].im == 0.0 {
+            terms[k].1 = Complex64::new(residues[k].re, 0.0);
+        }
+    }
+    for &(upper, lower) in &layout.pairs {
+        let c = (residues[upper] + residues[lower].conj()) / 2.0;
+        terms[upper].1 = c;
+        terms[lower].1 = c.conj();
+    }
+    terms
+}
+
 /// (jx)^k, exact in the quarter turns.
 fn j_power(x: f64, k: i32) -> Complex64 {
     let magnitude = x.powi(k);
@@ -716,69 +834,6 @@ fn moment(c: &[Complex64], p: &[Complex64], weight: impl Fn(Complex64) -> Comple
 }
 
 /// The eigendecomposition at `base`, nudged off a singular shift.
-/// The finite poles of a pencil in rad/s, without eigenvectors, residues or a self-check: the
-/// eigenvalues λ of M = K⁻¹C with K = G + s0·C at s0 = ‖G‖_F/‖C‖_F (nudged as in
-/// [`Modal::new`] where K is singular), mapped to p = s0 − 1/λ (see the module doc). For repeated
-/// evaluation of a perturbed circuit, such as the pole spread of a tolerance run, where a full
-/// [`Modal`] is not needed.
-///
-/// # Errors
-/// [`ModalError::Singular`] when K is singular at every shift tried, and
-/// [`ModalError::Unconverged`] when the QR iteration does not converge.
-pub fn pencil_poles(pencil: &Pencil) -> Result<Vec<Complex64>, ModalError> {
-    let n = pencil.n;
-    let norm = |m: &[f64]| m.iter().map(|v| v * v).sum::<f64>().sqrt();
-    let (g_norm, c_norm) = (norm(&pencil.g), norm(&pencil.c));
-    if c_norm == 0.0 {
-        return Ok(Vec::new());
-    }
-    let base = if g_norm > 0.0 && (g_norm / c_norm).is_finite() { g_norm / c_norm } else { 1.0 };
-    let zero = Complex64::new(0.0, 0.0);
-    for factor in [1.0, 1.9, 0.53, 3.7, 0.27] {
-        let shift = base * factor;
-        let k: Vec<Complex64> =
-            pencil.g.iter().zip(&pencil.c).map(|(g, c)| Complex64::new(g + shift * c, 0.0)).collect();
-        let mut lu = Lu::new();
-        if lu.factor(&k, n).is_err() {
-            continue;
-        }
-        let mut m = vec![zero; n * n];
-        let mut column = vec![zero; n];
-        for j in 0..n {
-            for (i, entry) in column.iter_mut().enumerate() {
-                *entry = Complex64::new(pencil.c[i * n + j], 0.0);
-            }
-            lu.solve_in_place(&mut column);
-            for (i, entry) in column.iter().enumerate() {
-                m[i * n + j] = *entry;
-            }
-        }
-        if m.iter().any(|z| !(z.re.is_finite() && z.im.is_finite())) {
-            continue;
-        }
-        balance(&mut m, n);
-        let max_iterations = 100 * n.max(3);
-        let schur = Schur::try_new(DMatrix::from_row_slice(n, n, &m), f64::EPSILON, max_iterations)
-            .ok_or(ModalError::Unconverged { iterations: max_iterations })?;
-        let lambda = schur.eigenvalues().ok_or(ModalError::Unconverged { iterations: max_iterations })?;
-        let largest = lambda.iter().map(|l| l.norm()).fold(0.0, f64::max);
-        let zero_eigenvalue = 64.0 * n as f64 * f64::EPSILON * largest;
-        return Ok(lambda
-            .iter()
-            .filter(|l| l.norm() > zero_eigenvalue)
-            .map(|l| {
-                let p = shift - l.inv();
-                if p.norm() <= 1e3 * n as f64 * f64::EPSILON * shift {
-                    zero
-                } else {
-                    p
-                }
-            })
-            .collect());
-    }
-    Err(ModalError::Singular)
-}
-
 fn eigen_near(g: &[f64], c: &[f64], b: &[Complex64], n: usize, base: f64) -> Result<Eigen, ModalError> {
     let mut last = ModalError::Singular;
     for factor in [1.0, 1.9, 0.53, 3.7, 0.27] {
@@ -791,8 +846,20 @@ fn eigen_near(g: &[f64], c: &[f64], b: &[Complex64], n: usize, base: f64) -> Res
     Err(last)
 }
 
-/// Factors K = G + s0·C and eigendecomposes M = K⁻¹C (see the module doc).
-fn eigen_at(g: &[f64], c: &[f64], b: &[Complex64], n: usize, shift: f64) -> Result<Eigen, ModalError> {
+/// The converged complex Schur form Q·T·Q* of the balanced M = K⁻¹C at one shift.
+struct ShiftedSchur {
+    q: DMatrix<Complex64>,
+    t: DMatrix<Complex64>,
+    /// The diagonal D of the balancing similarity D⁻¹MD.
+    balance: Vec<f64>,
+    /// b0 = K⁻¹b.
+    b0: Vec<Complex64>,
+    /// Frobenius norm of T.
+    t_norm: f64,
+}
+
+/// Factors K = G + s0·C, forms M = K⁻¹C, balances it and reduces it to a converged Schur form.
+fn shifted_schur(g: &[f64], c: &[f64], b: &[Complex64], n: usize, shift: f64) -> Result<ShiftedSchur, ModalError> {
     let zero = Complex64::new(0.0, 0.0);
     let k: Vec<Complex64> = g.iter().zip(c).map(|(g, c)| Complex64::new(g + shift * c, 0.0)).collect();
     let mut lu = Lu::new();
@@ -821,7 +888,6 @@ fn eigen_at(g: &[f64], c: &[f64], b: &[Complex64], n: usize, shift: f64) -> Resu
         .ok_or(ModalError::Unconverged { iterations: max_iterations })?;
     let (q, t) = schur.unpack();
     let t_norm = t.iter().map(|z| z.norm_sqr()).sum::<f64>().sqrt();
-    let t_max = t.iter().map(|z| z.norm()).fold(0.0, f64::max);
     for j in 0..n {
         for i in j + 1..n {
             if t[(i, j)].norm() > n as f64 * f64::EPSILON * t_norm {
@@ -829,6 +895,15 @@ fn eigen_at(g: &[f64], c: &[f64], b: &[Complex64], n: usize, shift: f64) -> Resu
             }
         }
     }
+    Ok(ShiftedSchur { q, t, balance, b0, t_norm })
+}
+
+/// Factors K = G + s0·C and eigendecomposes M = K⁻¹C (see the module doc).
+fn eigen_at(g: &[f64], c: &[f64], b: &[Complex64], n: usize, shift: f64) -> Result<Eigen, ModalError> {
+    let zero = Complex64::new(0.0, 0.0);
+    let ShiftedSchur { q, t, balance, b0, t_norm } = shifted_schur(g, c, b, n, shift)?;
+    let mut column = vec![zero; n];
+    let t_max = t.iter().map(|z| z.norm()).fold(0.0, f64::max);
     let lambda: Vec<Complex64> = (0..n).map(|i| t[(i, i)]).collect();
 
     // Eigenvectors of T by back substitution (column j has y_j = 1 and zeros below).
@@ -1405,6 +1480,72 @@ mod tests {
         let one_by_one: Vec<_> = f_hz.iter().map(|&f| modal.solve_at(f)).collect();
         assert_eq!(modal.solve_all(&f_hz), one_by_one);
         assert_eq!(one_by_one[1], Err(SolveError::Singular { f_hz: 0.0 }));
+    }
+
+    // Source: series RLC, H = ω0²/((s − p)(s − p̄)) = ρ/(s − p) + ρ̄/(s − p̄) with
+    // ρ = ω0²/(p − p̄) (partial fractions, closed form); d = H(∞) = 0.
+    #[test]
+    fn transfer_partial_fractions_are_the_plain_residues() {
+        let (r, l, cap) = (20.0, 1e-3, 1e-7);
+        let mut b = CircuitBuilder::new();
+        b.voltage_source("V1", "in", "0", 1.0, 0.0)
+            .resistor("R1", "in", "a", r)
+            .inductor("L1", "a", "out", l)
+            .capacitor("C1", "out", "0", cap);
+        let modal = Modal::new(&mut system_for(&b)).unwrap();
+        let fractions = modal.transfer_partial_fractions();
+        assert_eq!(fractions.direct, 0.0);
+        assert!(fractions.condition >= 1.0 && fractions.condition == modal.condition());
+        let omega0_sqr = 1.0 / (l * cap);
+        let p = (-r / l + Complex64::new((r / l).powi(2) - 4.0 * omega0_sqr, 0.0).sqrt()) / 2.0;
+        let p = if p.im > 0.0 { p } else { p.conj() };
+        let rho = omega0_sqr / (p - p.conj());
+        assert_eq!(fractions.terms.len(), 2);
+        let poles: Vec<Complex64> = fractions.terms.iter().map(|t| t.0).collect();
+        assert_eq!(poles, modal.poles(), "same order as poles()");
+        for &(pole, residue) in &fractions.terms {
+            let want = if pole.im > 0.0 { rho } else { rho.conj() };
+            assert!(relative(residue, want) < 1e-12, "{pole}: {residue} vs {want}");
+        }
+        // Exactly conjugate, and the sum is H itself at a test frequency.
+        assert_eq!(fractions.terms[0].1, fractions.terms[1].1.conj());
+        let s = c(0.0, 2.0 * PI * 3e3);
+        let sum: Complex64 = fractions.terms.iter().map(|(p, r)| r / (s - p)).sum();
+        assert!(relative(sum, modal.solve_at(3e3).unwrap().transfer) < 1e-12);
+
+        // Source: CR high-pass H = sτ/(1 + sτ) = 1 − (1/τ)/(s + 1/τ): d = 1, ρ = −1/τ.
+        let (r, cap) = (1e3, 1e-6);
+        let mut b = CircuitBuilder::new();
+        b.voltage_source("V1", "in", "0", 1.0, 0.0).capacitor("C1", "in", "out", cap).resistor("R1", "out", "0", r);
+        let fractions = Modal::new(&mut system_for(&b)).unwrap().transfer_partial_fractions();
+        assert!((fractions.direct - 1.0).abs() < 1e-15, "{fractions:?}");
+        let (pole, residue) = fractions.terms[0];
+        assert!((pole.re * r * cap + 1.0).abs() < 1e-12 && pole.im == 0.0, "{pole}");
+        assert!((residue.re * r * cap + 1.0).abs() < 1e-12 && residue.im == 0.0, "{residue}");
+    }
+
+    // Source: two identical buffered RC stages have a double pole at −1/RC (closed form); the
+    // pencil's eigenvalues find it even where the basis is refused, to about √ε.
+    #[test]
+    fn pencil_poles_need_no_eigenbasis() {
+        let (r, cap) = (1e3, 1e-7);
+        let mut b = CircuitBuilder::new();
+        b.voltage_source("V1", "in", "0", 1.0, 0.0)
+            .resistor("R1", "in", "a", r)
+            .capacitor("C1", "a", "0", cap)
+            .vcvs("E1", "b", "0", "a", "0", Gain::Constant(1.0))
+            .resistor("R2", "b", "out", r)
+            .capacitor("C2", "out", "0", cap);
+        let poles = Modal::pencil_poles(&system_for(&b)).unwrap();
+        assert_eq!(poles.len(), 2, "{poles:?}");
+        for p in poles {
+            assert!(relative(p, c(-1.0 / (r * cap), 0.0)) < 1e-6, "{p}");
+        }
+        let mut b = CircuitBuilder::new();
+        b.voltage_source("V1", "in", "0", 1.0, 50.0)
+            .resistor("R1", "in", "out", 150.0)
+            .resistor("R2", "out", "0", 50.0);
+        assert!(Modal::pencil_poles(&system_for(&b)).unwrap().is_empty());
     }
 
     #[test]

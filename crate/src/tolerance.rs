@@ -667,7 +667,11 @@ impl TolerancePlan {
     /// # Errors
     /// The mask's own errors ([`crate::mask::check_points`]), such as a grid that does not cover
     /// the passband or stopband: sweep wider.
-    pub fn mask_yield(&self, batches: &[TrialBatch], mask: &crate::mask::SpecMask) -> Result<MaskYield, crate::mask::MaskError> {
+    pub fn mask_yield(
+        &self,
+        batches: &[TrialBatch],
+        mask: &crate::mask::SpecMask,
+    ) -> Result<MaskYield, crate::mask::MaskError> {
         let check = |r: &TrialResponse| {
             let finite = |v: &[f64]| v.iter().map(|x| x.is_finite().then_some(*x)).collect::<Vec<_>>();
             let delays = if mask.max_group_delay_variation_s.is_some() { finite(&r.group_delay_s) } else { Vec::new() };
@@ -839,7 +843,7 @@ impl TolerancePlan {
     fn pole_q(&self, multipliers: &[f64]) -> Option<Vec<f64>> {
         let circuit = self.circuit_with(multipliers);
         let system = AcSystem::new(&circuit, &self.probe);
-        let poles = crate::modal::pencil_poles(&system.pencil()?).ok()?;
+        let poles = crate::modal::Modal::pencil_poles(&system).ok()?;
         let mut q: Vec<f64> =
             poles.iter().filter(|p| p.im > 1e-9 * p.norm() && p.re < 0.0).map(|p| p.norm() / (-2.0 * p.re)).collect();
         q.sort_by(f64::total_cmp);
