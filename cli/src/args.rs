@@ -23,7 +23,7 @@ pub enum Command {
     Fit(Box<FitArgs>),
     /// Tolerance run: Monte Carlo trials with a fixed seed plus worst-case corners; envelopes,
     /// -3 dB and Q spread, and the yield against a mask.
-    Spread(SpreadArgs),
+    Spread(Box<SpreadArgs>),
     /// Print the safety cautions that apply to building filters and crossovers.
     Cautions,
 }
@@ -136,9 +136,18 @@ pub struct FitArgs {
     /// Load capacitance in parallel with the load.
     #[arg(long, value_name = "C")]
     pub load_capacitance: Option<String>,
-    /// rc, rl, rlc or ladder.
+    /// rc, rl, rlc, ladder, sallen-key or mfb (op-amp RC sections, low-pass and high-pass).
     #[arg(long, default_value = "ladder")]
     pub topology: String,
+    /// Op-amp gain-bandwidth product for sallen-key and mfb [default: an ideal op-amp].
+    #[arg(long, value_name = "F")]
+    pub gbw: Option<String>,
+    /// Op-amp open-loop output resistance (with --gbw) [default: 0].
+    #[arg(long, value_name = "R")]
+    pub op_amp_rout: Option<String>,
+    /// Op-amp DC open-loop gain (with --gbw) [default: 100k].
+    #[arg(long, value_name = "A0")]
+    pub op_amp_a0: Option<String>,
     /// Element next to the source: series or shunt (ladders default to shunt; RLC sections to
     /// series, or shunt for a band-stop trap).
     #[arg(long)]

@@ -58,7 +58,7 @@ fn run(cli: args::Cli) -> Result<()> {
             Ok(())
         }
         args::Command::Spread(raw) => {
-            let options = spread::SpreadOptions::from_args(raw)?;
+            let options = spread::SpreadOptions::from_args(*raw)?;
             let design = read_design(&options.design)?;
             let run = spread::run(&design, &options)?;
             print!("{}", spread::render(&run, options.format));

@@ -239,6 +239,11 @@ pub struct ActiveOptions {
     pub impedance_ohms: f64,
     /// Load resistance at the output in Ω (`None` = open).
     pub load_ohms: Option<f64>,
+    /// Load capacitance in parallel at the output in F (`None` = none).
+    pub load_farads: Option<f64>,
+    /// The driving source's resistance in Ω (0 = ideal). The first section sees it in series
+    /// with its input; the fit does not compensate it, and the measured deviation includes it.
+    pub source_ohms: f64,
     /// A name for the design.
     pub name: String,
 }
@@ -358,7 +363,15 @@ impl From<SynthesisError> for ActiveError {
 
 impl Default for ActiveOptions {
     fn default() -> Self {
-        Self { op_amp: OpAmp::Ideal, gain: 1.0, impedance_ohms: 1e4, load_ohms: None, name: "active".to_string() }
+        Self {
+            op_amp: OpAmp::Ideal,
+            gain: 1.0,
+            impedance_ohms: 1e4,
+            load_ohms: None,
+            load_farads: None,
+            source_ohms: 0.0,
+            name: "active".to_string(),
+        }
     }
 }
 
@@ -718,6 +731,118 @@ pub fn fit_cascade(
     assemble(spec, options, &targets, chosen)
 }
 
+/// Fits an active cascade for the fitting front door ([`crate::fit::fit`] with
+/// [`crate::fit::Topology::Active`]) and reports it as a fit result with one alternative: the
+/// parts of every section, the worst section f0 and Q errors, and the response deviation measured
+/// on the whole circuit with the chosen op-amp model, the source resistance and the load.
+///
+/// # Errors
+/// [`SynthesisError::Unsupported`] for band-pass and band-stop, and the cascade's own errors as
+/// [`SynthesisError::Realization`].
+pub fn fit_requirement(
+    requirement: &crate::fit::Requirement,
+    topology: ActiveTopology,
+    op_amp: OpAmp,
+    options: &crate::fit::FitOptions,
+) -> Result<crate::fit::FitResult, SynthesisError> {
+    let realization = |e: ActiveError| match e {
+        ActiveError::Prototype(inner) => inner,
+        other => SynthesisError::Realization { message: other.to_string() },
+    };
+    let cutoff_hz = match (requirement.response, requirement.band) {
+        (ResponseType::LowPass | ResponseType::HighPass, Band::Cutoff(f)) => f,
+        (response, _) => {
+            return Err(SynthesisError::Unsupported {
+                asked: format!("an active {} cascade", response.name()),
+                instead: "active sections make low-pass and high-pass responses; use an LC ladder or RLC section for band-pass and band-stop".to_string(),
+            })
+        }
+    };
+    let spec = CascadeSpec {
+        topology,
+        alignment: requirement.alignment,
+        order: requirement.order,
+        response: requirement.response,
+        cutoff_hz,
+    };
+    let active_options = ActiveOptions {
+        op_amp,
+        load_ohms: requirement.load_resistance,
+        load_farads: requirement.load_capacitance.filter(|&c| c > 0.0),
+        source_ohms: requirement.source_resistance,
+        name: options.name.clone(),
+        ..ActiveOptions::default()
+    };
+    let mut parts = ActiveParts::new(options.parts.resistors.clone(), options.parts.capacitors.clone());
+    // The fit's resistor range, clipped to what suits op-amp sections (see [`ActiveParts`]).
+    let (lo, hi) = options.resistor_range;
+    parts.resistor_range =
+        (lo.max(parts.resistor_range.0), hi.min(parts.resistor_range.1).max(lo.max(parts.resistor_range.0)));
+    let fitted = fit_cascade(&spec, &active_options, &parts).map_err(realization)?;
+    let ideal = design_cascade(&spec, &active_options).map_err(realization)?;
+    let worst = |pick: &dyn Fn(&SectionResult) -> Option<f64>| {
+        fitted.sections.iter().filter_map(pick).fold(None, |acc: Option<f64>, e| {
+            Some(match acc {
+                Some(a) if a.abs() >= e.abs() => a,
+                _ => e,
+            })
+        })
+    };
+    let f0_error_pct = worst(&|s| Some(s.f0_error_pct));
+    let q_error_pct = worst(&|s| s.q_error_pct);
+    let objective = f0_error_pct.unwrap_or(0.0).abs().max(q_error_pct.unwrap_or(0.0).abs());
+    let achieved_cutoff = achieved_cutoff_hz(&fitted);
+    let alternative = crate::fit::Alternative {
+        parts: fitted.sections.iter().flat_map(|s| s.parts.iter().cloned()).collect(),
+        achieved: crate::fit::Figures { cutoff_hz: achieved_cutoff, f0_hz: None, q: None },
+        cutoff_error_pct: achieved_cutoff.map(|f| 100.0 * (f - cutoff_hz) / cutoff_hz),
+        f0_error_pct,
+        q_error_pct,
+        max_response_deviation_db: fitted.max_response_deviation_db,
+        objective,
+        design: fitted.design.clone(),
+    };
+    Ok(crate::fit::FitResult {
+        ideal: ideal.design,
+        target: crate::fit::Figures { cutoff_hz: Some(cutoff_hz), f0_hz: None, q: None },
+        deviation_band_hz: fitted.deviation_band_hz,
+        objective: "the worst section f0 or Q error in %; each section's parts searched among the standard values nearest its ideal ones; the response deviation is measured on the whole circuit with the chosen op-amp model".to_string(),
+        alternatives: vec![alternative],
+    })
+}
+
+/// The fitted circuit's cutoff in the alignment's own meaning: where its gain, relative to the
+/// passband gain, falls to the target's level at the cutoff (−3.01 dB for Butterworth, the ripple
+/// edge for Chebyshev, −6.02 dB for Linkwitz-Riley), found on a 400-point log sweep of the
+/// deviation band with linear interpolation in (ln f, dB), taking the crossing nearest the
+/// target cutoff. `None` if the sweep does not cross that level.
+fn achieved_cutoff_hz(cascade: &ActiveCascade) -> Option<f64> {
+    let fc = cascade.spec.cutoff_hz;
+    let passband = cascade.passband_gain.abs();
+    let level_db = 20.0 * (cascade.expected_response(fc).norm() / passband).log10();
+    let (circuit, probe) = cascade.design.to_circuit().ok()?;
+    let (low, high) = cascade.deviation_band_hz;
+    let grid = FrequencyGrid::log(low, high, Spacing::Points(400)).ok()?;
+    let response = sweep(&mut AcSystem::new(&circuit, &probe), &grid, Detail::Transfer);
+    let reference_db = 20.0 * passband.log10();
+    let gain: Vec<Option<f64>> =
+        response.magnitude_db().into_iter().map(|g| g.map(|g| g - reference_db - level_db)).collect();
+    let f = grid.frequencies();
+    let mut best: Option<f64> = None;
+    for k in 1..f.len() {
+        if let (Some(y0), Some(y1)) = (gain[k - 1], gain[k]) {
+            if y0 * y1 <= 0.0 && y0 != y1 {
+                let (u0, u1) = (f[k - 1].ln(), f[k].ln());
+                let crossing = (u0 + (u1 - u0) * y0 / (y0 - y1)).exp();
+                if best.is_none_or(|b| (b / fc).ln().abs() > (crossing / fc).ln().abs()) {
+                    best = Some(crossing);
+                }
+            }
+        }
+    }
+    best
+}
+
 /// Joins the sections into one design, and measures it.
 fn assemble(
     spec: &CascadeSpec,
@@ -728,6 +853,11 @@ fn assemble(
     let prototype = lowpass_prototype(spec.alignment, spec.order)?;
     let target = crate::transform::denormalize(&prototype, spec.response, Band::Cutoff(spec.cutoff_hz))?;
     let mut design = empty_design(&options.name, options.load_ohms);
+    design.source.resistance = options.source_ohms;
+    if let Some(c) = options.load_farads {
+        let load = design.load.get_or_insert(Load { node: "out".to_string(), resistance: None, capacitance: None });
+        load.capacitance = Some(c);
+    }
     design.note = format!(
         "{} {} {} order {}, cutoff {} Hz; {} sections in ascending Q",
         match spec.topology {
@@ -1145,6 +1275,14 @@ fn check_options(options: &ActiveOptions) -> Result<(), ActiveError> {
     if let Some(r) = options.load_ohms {
         check_value("load resistance (Ω)", r)?;
     }
+    if let Some(c) = options.load_farads {
+        if !(c.is_finite() && c >= 0.0) {
+            return Err(ActiveError::BadValue { what: "load capacitance (F)", value: c });
+        }
+    }
+    if !(options.source_ohms.is_finite() && options.source_ohms >= 0.0) {
+        return Err(ActiveError::BadValue { what: "source resistance (Ω)", value: options.source_ohms });
+    }
     Ok(())
 }
 
@@ -1164,6 +1302,43 @@ mod tests {
 
     fn spec(topology: ActiveTopology, alignment: Alignment, order: usize, response: ResponseType) -> CascadeSpec {
         CascadeSpec { topology, alignment, order, response, cutoff_hz: 1000.0 }
+    }
+
+    #[test]
+    fn the_fitting_front_door_reports_an_active_cascade() {
+        let request = crate::request::FitRequest {
+            cutoff: Some("2k".into()),
+            order: Some("4".into()),
+            topology: Some("sallen-key".into()),
+            source: Some("100".into()),
+            load: Some("10k".into()),
+            ..Default::default()
+        };
+        let resolved = request.resolve().unwrap();
+        let result = crate::fit::fit(&resolved.requirement, resolved.topology, &resolved.options).unwrap();
+        assert_eq!(result.alternatives.len(), 1);
+        let best = &result.alternatives[0];
+        assert_eq!(best.parts.len(), 8);
+        for part in &best.parts {
+            let set = if part.kind == "resistor" { Series::E96 } else { Series::E12 };
+            assert!(PartValues::Series(set).is_value(part.choice.value), "{} = {}", part.reference, part.choice.value);
+        }
+        // The source resistance is in the design and in the measured figures.
+        assert_eq!(best.design.source.resistance, 100.0);
+        let cutoff_error = best.cutoff_error_pct.unwrap();
+        assert!(cutoff_error.abs() < 2.0, "cutoff error {cutoff_error} %");
+        assert!(best.max_response_deviation_db < 0.5, "{}", best.max_response_deviation_db);
+        let band_pass = crate::request::FitRequest {
+            low: Some("1k".into()),
+            high: Some("2k".into()),
+            response: Some("bandpass".into()),
+            topology: Some("mfb".into()),
+            ..Default::default()
+        }
+        .resolve()
+        .unwrap();
+        let error = crate::fit::fit(&band_pass.requirement, band_pass.topology, &band_pass.options).unwrap_err();
+        assert!(error.to_string().contains("low-pass and high-pass"), "{error}");
     }
 
     fn engine(design: &Design, f_hz: f64) -> Complex64 {

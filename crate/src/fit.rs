@@ -67,7 +67,7 @@ pub const DEVIATION_FLOOR_DB: f64 = 40.0;
 pub const DEVIATION_POINTS_PER_DECADE: f64 = 40.0;
 
 /// Which realization to fit.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Topology {
     /// A first-order RC section.
     Rc,
@@ -77,6 +77,9 @@ pub enum Topology {
     Rlc(RlcForm),
     /// An LC ladder.
     Ladder(FirstElement),
+    /// A cascade of op-amp RC sections (low-pass and high-pass), with the op-amp model of every
+    /// section.
+    Active(crate::active::ActiveTopology, crate::active::OpAmp),
 }
 
 /// Which element of a second-order RLC section sits next to the source (after the resistor).
@@ -339,6 +342,7 @@ pub fn fit(requirement: &Requirement, topology: Topology, options: &FitOptions) 
         Topology::Rc | Topology::Rl => fit_first_order(requirement, topology, options),
         Topology::Rlc(form) => fit_second_order(requirement, form, options),
         Topology::Ladder(first) => fit_ladder(requirement, first, options),
+        Topology::Active(topology, op_amp) => crate::active::fit_requirement(requirement, topology, op_amp, options),
     }
 }
 

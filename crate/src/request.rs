@@ -8,6 +8,7 @@
 //! stated on [`FitRequest`]. Reading stock-list files is the adapter's job: it passes their text
 //! in [`FitRequest::stock`].
 
+use crate::active::{ActiveTopology, OpAmp};
 use crate::eseries::{PartValues, Series, StockError, StockList};
 use crate::fit::{Combine, FitOptions, PartSets, Requirement, RlcForm, Topology};
 use crate::ladder::FirstElement;
@@ -51,8 +52,14 @@ pub struct FitRequest {
     pub load: Option<String>,
     /// Load capacitance in parallel with the load.
     pub load_capacitance: Option<String>,
-    /// rc, rl, rlc or ladder.
+    /// rc, rl, rlc, ladder, sallen-key or mfb.
     pub topology: Option<String>,
+    /// Op-amp gain-bandwidth product of active sections (absent: an ideal op-amp).
+    pub gbw: Option<String>,
+    /// Op-amp open-loop output resistance (with `gbw`; default 0).
+    pub op_amp_rout: Option<String>,
+    /// Op-amp DC open-loop gain (with `gbw`; default 100k, a typical figure, common practice).
+    pub op_amp_a0: Option<String>,
     /// series or shunt: the ladder element, or the RLC form, next to the source.
     pub first: Option<String>,
     /// Resistor values: an E-series name or a key of `stock`.
@@ -299,8 +306,24 @@ impl FitRequest {
                 None => RlcForm::default_for(response),
             }),
             "ladder" => Topology::Ladder(first.unwrap_or(FirstElement::Shunt)),
-            other => return Err(choice("topology", other, "rc, rl, rlc or ladder")),
+            name @ ("sallen-key" | "mfb") => {
+                let kind = if name == "mfb" { ActiveTopology::MultipleFeedback } else { ActiveTopology::SallenKey };
+                Topology::Active(kind, self.op_amp()?)
+            }
+            other => return Err(choice("topology", other, "rc, rl, rlc, ladder, sallen-key or mfb")),
         };
+        if !matches!(topology, Topology::Active(..)) {
+            for (field, given) in
+                [("gbw", &self.gbw), ("op_amp_rout", &self.op_amp_rout), ("op_amp_a0", &self.op_amp_a0)]
+            {
+                if given.as_deref().is_some_and(|t| !t.trim().is_empty()) {
+                    return Err(RequestError::Conflict {
+                        field,
+                        why: "op-amp figures apply to the sallen-key and mfb topologies only",
+                    });
+                }
+            }
+        }
         let alternatives_text = text(&self.alternatives, "5");
         let alternatives = value("alternatives", &alternatives_text, Quantity::Ratio)?;
         if alternatives.fract() != 0.0 || !(1.0..=1000.0).contains(&alternatives) {
@@ -327,6 +350,31 @@ impl FitRequest {
         let requirement =
             Requirement { response, alignment, order, band, source_resistance, load_resistance, load_capacitance };
         Ok(ResolvedFit { requirement, topology, options })
+    }
+
+    /// The op-amp model: ideal without `gbw`, else single-pole with its output resistance.
+    fn op_amp(&self) -> Result<OpAmp, RequestError> {
+        let given = |t: &Option<String>| t.as_deref().map(str::trim).filter(|t| !t.is_empty()).map(str::to_string);
+        let Some(gbw_text) = given(&self.gbw) else {
+            if given(&self.op_amp_rout).is_some() || given(&self.op_amp_a0).is_some() {
+                return Err(RequestError::Conflict {
+                    field: "gbw",
+                    why: "an op-amp output resistance or gain needs its gain-bandwidth product: give gbw too",
+                });
+            }
+            return Ok(OpAmp::Ideal);
+        };
+        let gbw_hz = frequency("gbw", &gbw_text)?;
+        let output_ohms =
+            value("op_amp_rout", &given(&self.op_amp_rout).unwrap_or_else(|| "0".into()), Quantity::Resistance)?;
+        let dc_gain = value("op_amp_a0", &given(&self.op_amp_a0).unwrap_or_else(|| "100k".into()), Quantity::Ratio)?;
+        let op_amp = OpAmp::SinglePole { gbw_hz, dc_gain, output_ohms };
+        op_amp.validate().map_err(|e| RequestError::Range {
+            field: "gbw",
+            text: gbw_text.clone(),
+            accepted: e.to_string(),
+        })?;
+        Ok(op_amp)
     }
 
     fn part_values(&self, field: &'static str, name: String, quantity: Quantity) -> Result<PartValues, RequestError> {
@@ -390,6 +438,11 @@ mod tests {
         assert_eq!(rlc.requirement.alignment, Alignment::Quality { q: 5.0 });
         assert_eq!(rlc.requirement.order, 1);
         assert_eq!(rlc.topology, Topology::Rlc(RlcForm::Series));
+        let active = request(r#"{"cutoff": "1k", "topology": "mfb", "gbw": "1M", "op_amp_rout": "75"}"#).unwrap();
+        let op_amp = OpAmp::SinglePole { gbw_hz: 1e6, dc_gain: 1e5, output_ohms: 75.0 };
+        assert_eq!(active.topology, Topology::Active(ActiveTopology::MultipleFeedback, op_amp));
+        let ideal = request(r#"{"cutoff": "1k", "topology": "sallen-key"}"#).unwrap();
+        assert_eq!(ideal.topology, Topology::Active(ActiveTopology::SallenKey, OpAmp::Ideal));
     }
 
     #[test]
@@ -407,7 +460,15 @@ mod tests {
             (r#"{"cutoff": "1k", "load": "10 kF"}"#, "load", "cannot read"),
             (r#"{"cutoff": "1k", "capacitors": "E7"}"#, "capacitors", "not an E-series name"),
             (r#"{"cutoff": "1k", "alternatives": "0"}"#, "alternatives", "from 1 to 1000"),
-            (r#"{"cutoff": "1k", "topology": "rcl"}"#, "topology", "use rc, rl, rlc or ladder"),
+            (r#"{"cutoff": "1k", "topology": "rcl"}"#, "topology", "use rc, rl, rlc, ladder, sallen-key or mfb"),
+            (r#"{"cutoff": "1k", "topology": "rc", "gbw": "1M"}"#, "gbw", "sallen-key and mfb topologies only"),
+            (r#"{"cutoff": "1k", "topology": "mfb", "op_amp_rout": "50"}"#, "gbw", "give gbw too"),
+            (r#"{"cutoff": "1k", "topology": "mfb", "gbw": "-1M"}"#, "gbw", "above 0 Hz"),
+            (
+                r#"{"cutoff": "1k", "topology": "sallen-key", "gbw": "1M", "op_amp_a0": "0.5"}"#,
+                "gbw",
+                "\"1M\" is not accepted",
+            ),
         ];
         for (json, field, fragment) in cases {
             let error = request(json).unwrap_err();

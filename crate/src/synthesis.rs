@@ -161,6 +161,12 @@ pub enum SynthesisError {
         /// What went wrong.
         detail: String,
     },
+    /// A realization (such as an active cascade) refused the request; the message says why and
+    /// what to change.
+    Realization {
+        /// The realization's own message.
+        message: String,
+    },
     // Further variants go above this line.
 }
 
@@ -192,6 +198,7 @@ impl fmt::Display for SynthesisError {
                 write!(f, "the stock list {name} holds no usable value; list at least one positive value per line")
             }
             Self::NoCandidates { reason } => write!(f, "no standard parts fit: {reason}"),
+            Self::Realization { message } => write!(f, "{message}"),
             Self::NumericalFailure { asked, detail } => write!(
                 f,
                 "{asked} could not be computed: {detail}; this is a fault in the synthesis, so please report the request (a neighbouring order or ratio may work meanwhile)"
