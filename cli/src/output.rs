@@ -137,6 +137,7 @@ fn element_value_text(kind: &ElementKind) -> String {
         ElementKind::Vcvs { gain: bandwright::Gain::SinglePole { dc_gain, pole_hz }, .. } => {
             format!("gain {dc_gain}, pole {}", format_quantity(pole_hz, Quantity::Frequency, 4))
         }
+        ElementKind::MeasuredImpedance { curve } => format!("measured curve {curve}"),
     }
 }
 

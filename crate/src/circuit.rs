@@ -15,12 +15,17 @@
 //! A node that is floating only at DC, such as the node between two capacitors in series, is
 //! accepted: it is solvable at every ω > 0, and a sweep that includes 0 Hz flags that one point.
 //!
+//! A measured impedance ([`ElementKind::MeasuredImpedance`]) is a two-terminal part whose
+//! impedance comes from a [`MeasuredCurve`] held by the circuit; it is not rational in s, so the
+//! modal (pencil) path refuses such a circuit and the per-frequency MNA path handles it.
+//!
 //! Sign conventions (passive): each two-terminal part has terminals `(a, b)`; its voltage is
 //! V(a) − V(b) and its current flows from `a` through the part to `b`. Sources use the same
 //! convention for reporting, so a source that delivers power reports negative absorbed power.
 //! A voltage source's `a` terminal is its positive terminal; a current source pushes its current
 //! out of terminal `a` into the network and takes it back at `b`.
 
+use num_complex::Complex64;
 use std::collections::HashMap;
 use std::fmt;
 
@@ -84,6 +89,55 @@ pub enum ElementKind {
         /// The sensing node pair (positive, negative). It draws no current.
         control: (Node, Node),
     },
+    /// A measured impedance: Z(f) interpolated from the circuit's curve number `curve` (see
+    /// [`Circuit::curves`] and [`MeasuredCurve`]). Only defined inside the curve's frequency range.
+    MeasuredImpedance {
+        /// Index into [`Circuit::curves`].
+        curve: usize,
+    },
+}
+
+/// A measured complex curve (an impedance in Ω, or a dimensionless response) on a strictly
+/// increasing frequency grid, interpolated in log frequency.
+///
+/// Between two points the interpolation is linear in ln f for ln |Z| (so |Z| is a straight line on
+/// log–log axes) and for the phase in radians (a straight line on a log-frequency axis). This is
+/// the usual way to read a measured curve between its points (common practice); it is exact at
+/// the points. Outside [first, last] frequency the curve is not defined: no extrapolation is done.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MeasuredCurve {
+    f_hz: Vec<f64>,
+    ln_magnitude: Vec<f64>,
+    phase_rad: Vec<f64>,
+}
+
+/// Why a measured curve was refused. `point` counts from 0 in the order given.
+#[derive(Debug, Clone, PartialEq)]
+pub enum CurveError {
+    /// Fewer than two points, or lists of different lengths.
+    TooFewPoints {
+        /// How many usable points there were.
+        count: usize,
+    },
+    /// A frequency is not finite and > 0, or a magnitude is not finite and > 0, or a phase is not
+    /// finite.
+    BadPoint {
+        /// The point's position.
+        point: usize,
+        /// Which value, e.g. "frequency".
+        what: &'static str,
+        /// The offending value.
+        value: f64,
+    },
+    /// A frequency is not above the one before it.
+    NotIncreasing {
+        /// The point's position.
+        point: usize,
+        /// Its frequency in Hz.
+        f_hz: f64,
+        /// The frequency before it in Hz.
+        previous_hz: f64,
+    },
 }
 
 /// One part of a circuit.
@@ -102,6 +156,7 @@ pub struct Element {
 pub struct Circuit {
     node_names: Vec<String>,
     elements: Vec<Element>,
+    curves: Vec<MeasuredCurve>,
 }
 
 /// Collects parts by node name and validates them into a [`Circuit`].
@@ -110,6 +165,7 @@ pub struct CircuitBuilder {
     node_names: Vec<String>,
     node_index: HashMap<String, usize>,
     elements: Vec<Element>,
+    curves: Vec<MeasuredCurve>,
     problems: Vec<CircuitError>,
 }
 
@@ -165,6 +221,15 @@ pub enum CircuitError {
         /// The nodes.
         nodes: Vec<String>,
     },
+    /// A measured impedance names a curve the circuit does not hold.
+    UnknownCurve {
+        /// The part.
+        reference: String,
+        /// The curve index it names.
+        curve: usize,
+        /// How many curves the circuit holds.
+        n_curves: usize,
+    },
     /// A node named where the circuit has no such node.
     UnknownNode {
         /// The name.
@@ -207,6 +272,10 @@ impl fmt::Display for CircuitError {
                 "nodes {} are fed only through current sources, so their voltage is undefined; add a path of passive parts to them",
                 nodes.join(", ")
             ),
+            Self::UnknownCurve { reference, curve, n_curves } => write!(
+                f,
+                "part {reference} names measured curve {curve}, but the circuit holds {n_curves}; add the curve with CircuitBuilder::measured_impedance"
+            ),
             Self::UnknownNode { name, used_by } => write!(
                 f,
                 "{used_by} names node {name}, which no part connects to; use one of the circuit's nodes"
@@ -216,6 +285,109 @@ impl fmt::Display for CircuitError {
 }
 
 impl std::error::Error for CircuitError {}
+
+impl fmt::Display for CurveError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Self::TooFewPoints { count } => {
+                write!(f, "a measured curve needs at least two points with frequency, magnitude and phase; it has {count}")
+            }
+            Self::BadPoint { point, what, value } => write!(
+                f,
+                "point {} has {what} {value}; frequency and magnitude must be finite and > 0, phase finite",
+                point + 1
+            ),
+            Self::NotIncreasing { point, f_hz, previous_hz } => write!(
+                f,
+                "point {} has frequency {f_hz} Hz, not above the {previous_hz} Hz before it; list frequencies in strictly increasing order",
+                point + 1
+            ),
+        }
+    }
+}
+
+impl std::error::Error for CurveError {}
+
+impl MeasuredCurve {
+    /// A curve from frequencies (Hz, strictly increasing), magnitudes (> 0; Ω for an impedance)
+    /// and phases in degrees.
+    ///
+    /// # Errors
+    /// [`CurveError`] naming the first offending point.
+    pub fn new(f_hz: &[f64], magnitude: &[f64], phase_deg: &[f64]) -> Result<MeasuredCurve, CurveError> {
+        if f_hz.len() != magnitude.len() || f_hz.len() != phase_deg.len() || f_hz.len() < 2 {
+            return Err(CurveError::TooFewPoints { count: f_hz.len().min(magnitude.len()).min(phase_deg.len()) });
+        }
+        for point in 0..f_hz.len() {
+            let bad = |what, value| CurveError::BadPoint { point, what, value };
+            if !(f_hz[point].is_finite() && f_hz[point] > 0.0) {
+                return Err(bad("frequency", f_hz[point]));
+            }
+            if !(magnitude[point].is_finite() && magnitude[point] > 0.0) {
+                return Err(bad("magnitude", magnitude[point]));
+            }
+            if !phase_deg[point].is_finite() {
+                return Err(bad("phase", phase_deg[point]));
+            }
+            if point > 0 && f_hz[point] <= f_hz[point - 1] {
+                return Err(CurveError::NotIncreasing { point, f_hz: f_hz[point], previous_hz: f_hz[point - 1] });
+            }
+        }
+        Ok(MeasuredCurve {
+            f_hz: f_hz.to_vec(),
+            ln_magnitude: magnitude.iter().map(|m| m.ln()).collect(),
+            phase_rad: phase_deg.iter().map(|p| p.to_radians()).collect(),
+        })
+    }
+
+    /// The frequencies of the points in Hz.
+    pub fn f_hz(&self) -> &[f64] {
+        &self.f_hz
+    }
+
+    /// The lowest and highest frequency in Hz.
+    pub fn range_hz(&self) -> (f64, f64) {
+        (self.f_hz[0], self.f_hz[self.f_hz.len() - 1])
+    }
+
+    /// The interpolated value at `f_hz`, or `None` outside the curve's range (or for a frequency
+    /// that is not finite).
+    pub fn value_at(&self, f_hz: f64) -> Option<Complex64> {
+        self.value_and_derivative_at(f_hz).map(|(value, _)| value)
+    }
+
+    /// The interpolated value at `f_hz` and its derivative d/dω (per rad/s), or `None` outside the
+    /// curve's range. At a point between two segments the derivative is that of the segment above
+    /// (the last segment at the top end).
+    pub fn value_and_derivative_at(&self, f_hz: f64) -> Option<(Complex64, Complex64)> {
+        let (low, high) = self.range_hz();
+        if !(f_hz >= low && f_hz <= high) {
+            return None;
+        }
+        let n = self.f_hz.len();
+        // The segment [k, k + 1] holding f.
+        let k = self.f_hz.partition_point(|&x| x <= f_hz).clamp(1, n - 1) - 1;
+        let (x0, x1) = (self.f_hz[k].ln(), self.f_hz[k + 1].ln());
+        let t = (f_hz.ln() - x0) / (x1 - x0);
+        let slope_ln_magnitude = (self.ln_magnitude[k + 1] - self.ln_magnitude[k]) / (x1 - x0);
+        let slope_phase = (self.phase_rad[k + 1] - self.phase_rad[k]) / (x1 - x0);
+        let ln_magnitude = self.ln_magnitude[k] + t * (self.ln_magnitude[k + 1] - self.ln_magnitude[k]);
+        let phase = self.phase_rad[k] + t * (self.phase_rad[k + 1] - self.phase_rad[k]);
+        let value = Complex64::from_polar(ln_magnitude.exp(), phase);
+        // Z = exp(a + b·ln f + j(c + d·ln f)), and d(ln f)/dω = 1/ω.
+        let omega = 2.0 * std::f64::consts::PI * f_hz;
+        let derivative = value * Complex64::new(slope_ln_magnitude, slope_phase) / omega;
+        Some((value, derivative))
+    }
+
+    /// The value at `f_hz` with `f_hz` clamped into the curve's range (for checks that need a
+    /// number everywhere; the analysis itself refuses frequencies outside the range).
+    pub fn value_clamped(&self, f_hz: f64) -> (Complex64, Complex64) {
+        let (low, high) = self.range_hz();
+        let f = if f_hz.is_nan() { low } else { f_hz.clamp(low, high) };
+        self.value_and_derivative_at(f).expect("a clamped frequency is inside the range")
+    }
+}
 
 impl Node {
     /// The ground node.
@@ -234,8 +406,7 @@ impl Node {
 
 impl Gain {
     /// The gain at angular frequency `omega` (rad/s), and its derivative d/dω.
-    pub fn at(self, omega: f64) -> (num_complex::Complex64, num_complex::Complex64) {
-        use num_complex::Complex64;
+    pub fn at(self, omega: f64) -> (Complex64, Complex64) {
         match self {
             Gain::Constant(a) => (Complex64::new(a, 0.0), Complex64::new(0.0, 0.0)),
             Gain::SinglePole { dc_gain, pole_hz } => {
@@ -260,6 +431,7 @@ impl ElementKind {
             Self::VoltageSource { .. } => "voltage_source",
             Self::CurrentSource { .. } => "current_source",
             Self::Vcvs { .. } => "vcvs",
+            Self::MeasuredImpedance { .. } => "measured_impedance",
         }
     }
 
@@ -269,6 +441,8 @@ impl ElementKind {
     }
 
     /// The main value in SI units (resistance, capacitance, inductance, EMF, current or gain).
+    /// A measured impedance has no single value; it gives 0 (its curve is in
+    /// [`Circuit::curves`]).
     pub fn primary_value(&self) -> f64 {
         match *self {
             Self::Resistor { resistance } => resistance,
@@ -278,6 +452,7 @@ impl ElementKind {
             Self::CurrentSource { current } => current,
             Self::Vcvs { gain: Gain::Constant(a), .. } => a,
             Self::Vcvs { gain: Gain::SinglePole { dc_gain, .. }, .. } => dc_gain,
+            Self::MeasuredImpedance { .. } => 0.0,
         }
     }
 
@@ -321,6 +496,11 @@ impl Circuit {
         &self.elements
     }
 
+    /// The measured curves that [`ElementKind::MeasuredImpedance`] parts refer to.
+    pub fn curves(&self) -> &[MeasuredCurve] {
+        &self.curves
+    }
+
     /// Finds a part's index by reference.
     pub fn element_index(&self, reference: &str) -> Option<usize> {
         self.elements.iter().position(|e| e.reference == reference)
@@ -336,6 +516,7 @@ impl Circuit {
     pub fn with_kind(&self, index: usize, kind: ElementKind) -> Result<Circuit, CircuitError> {
         let element = &self.elements[index];
         validate_values(&element.reference, &kind)?;
+        check_curve(&element.reference, &kind, self.curves.len())?;
         let mut circuit = self.clone();
         circuit.elements[index].kind = kind;
         Ok(circuit)
@@ -371,6 +552,16 @@ impl CircuitBuilder {
     /// Adds an ideal inductor of `henries`.
     pub fn inductor(&mut self, reference: &str, a: &str, b: &str, henries: f64) -> &mut Self {
         self.add(reference, ElementKind::Inductor { inductance: henries, dcr: 0.0 }, a, b)
+    }
+
+    /// Adds a measured impedance between `a` and `b`; the builder keeps `curve` and the part
+    /// refers to it (see [`ElementKind::MeasuredImpedance`]).
+    pub fn measured_impedance(&mut self, reference: &str, a: &str, b: &str, curve: MeasuredCurve) -> &mut Self {
+        let index = self.curves.iter().position(|c| *c == curve).unwrap_or_else(|| {
+            self.curves.push(curve);
+            self.curves.len() - 1
+        });
+        self.add(reference, ElementKind::MeasuredImpedance { curve: index }, a, b)
     }
 
     /// Adds a Thevenin voltage source (EMF `volts` in series with `series_ohms`), positive at `a`.
@@ -420,6 +611,7 @@ impl CircuitBuilder {
                 return Err(CircuitError::DuplicateReference { reference: element.reference.clone() });
             }
             validate_values(&element.reference, &element.kind)?;
+            check_curve(&element.reference, &element.kind, self.curves.len())?;
             if element.nodes.0 == element.nodes.1 {
                 return Err(CircuitError::ShortedPart {
                     reference: element.reference.clone(),
@@ -429,7 +621,7 @@ impl CircuitBuilder {
         }
         let mut node_names = vec!["0".to_string()];
         node_names.extend(self.node_names.iter().cloned());
-        let circuit = Circuit { node_names, elements: self.elements.clone() };
+        let circuit = Circuit { node_names, elements: self.elements.clone(), curves: self.curves.clone() };
         check_topology(&circuit)?;
         Ok(circuit)
     }
@@ -458,6 +650,15 @@ impl CircuitBuilder {
 /// Whether a node name means ground: `0` or `gnd` in any case.
 pub fn is_ground_name(name: &str) -> bool {
     name == "0" || name.eq_ignore_ascii_case("gnd")
+}
+
+fn check_curve(reference: &str, kind: &ElementKind, n_curves: usize) -> Result<(), CircuitError> {
+    match *kind {
+        ElementKind::MeasuredImpedance { curve } if curve >= n_curves => {
+            Err(CircuitError::UnknownCurve { reference: reference.to_string(), curve, n_curves })
+        }
+        _ => Ok(()),
+    }
 }
 
 fn validate_values(reference: &str, kind: &ElementKind) -> Result<(), CircuitError> {
@@ -491,6 +692,7 @@ fn validate_values(reference: &str, kind: &ElementKind) -> Result<(), CircuitErr
             non_zero("DC gain", dc_gain)?;
             positive("pole frequency", pole_hz)
         }
+        ElementKind::MeasuredImpedance { .. } => Ok(()),
     }
 }
 
@@ -685,6 +887,19 @@ mod tests {
         let mut b = rc();
         b.vcvs("E1", "amp", "0", "nowhere", "0", Gain::Constant(2.0)).resistor("R2", "amp", "0", 1e3);
         expect_error(&b, "controlled source E1 names node nowhere");
+    }
+
+    #[test]
+    fn measured_impedance_needs_its_curve() {
+        let curve = MeasuredCurve::new(&[10.0, 100.0], &[8.0, 9.0], &[0.0, 10.0]).unwrap();
+        let mut b = rc();
+        b.measured_impedance("Z1", "out", "0", curve.clone()).measured_impedance("Z2", "in", "0", curve);
+        let circuit = b.build().unwrap();
+        assert_eq!(circuit.curves().len(), 1, "one curve shared by both parts");
+        let error = circuit.with_kind(3, ElementKind::MeasuredImpedance { curve: 5 }).unwrap_err();
+        assert!(error.to_string().contains("names measured curve 5, but the circuit holds 1"), "{error}");
+        let bad = MeasuredCurve::new(&[10.0, 10.0], &[8.0, 9.0], &[0.0, 10.0]).unwrap_err();
+        assert!(bad.to_string().contains("point 2 has frequency 10 Hz, not above"), "{bad}");
     }
 
     #[test]

@@ -23,7 +23,8 @@
 //! [`transform`] → [`ladder`] → [`fit`] → [`request`] (the requirement as typed); [`active`] →
 //! [`sallen_key`], [`multiple_feedback`] (op-amp RC sections and their cascades); [`mask`] (spec
 //! masks and minimum orders); [`tolerance`] spreads real parts; [`share`] packs a design into a
-//! link.
+//! link. Loudspeaker crossovers: [`driver`] (loads and acoustic data) → [`crossover`] (branches,
+//! compensation, summed response) → [`stress`] (part ratings and the parts list).
 #![deny(missing_docs)]
 
 pub mod notation;
@@ -72,13 +73,30 @@ pub mod tolerance;
 // Sharing a design as text.
 pub mod share;
 
+// Loudspeaker crossovers: driver loads, networks, and part stress.
+pub mod driver;
+
+pub mod crossover;
+
+pub mod stress;
+
 pub use active::{
     cascade_sections, design_cascade, fit_cascade, ActiveCascade, ActiveError, ActiveOptions, ActiveParts,
     ActiveSection, ActiveTopology, CascadeSpec, FirstOrderSection, OpAmp, PartSensitivity, SectionResult,
     SectionTarget,
 };
-pub use circuit::{Circuit, CircuitBuilder, CircuitError, Element, ElementKind, Gain, Node};
+pub use circuit::{Circuit, CircuitBuilder, CircuitError, CurveError, Element, ElementKind, Gain, MeasuredCurve, Node};
+pub use crossover::{
+    design_branch, design_crossover, l_pad, resonance_notch, series_level_resistor, zobel, BranchDesign, BranchFilter,
+    BranchNetwork, BranchResponse, BranchSpec, CoilLoss, Crossover, CrossoverAlignment, CrossoverError, CrossoverPoint,
+    CrossoverResponse, CrossoverSpec, DesignLoad, ImpedanceMinimum, LPad, LadderElement, LevelMatch, Notch,
+    NotchChoice, Placement, Polarity, Reactance, Zobel, ZobelChoice,
+};
 pub use design::{parse_design, Design, DesignError, Load, Part, Source};
+pub use driver::{
+    parse_impedance_csv, parse_response_csv, Acoustic, AcousticResponse, Coil, DriverError, DriverLoad, DriverModel,
+    Resonance,
+};
 pub use eseries::{PartValues, Series, StockError, StockList};
 pub use ladder::{
     prototype_values, prototype_values_for, synthesize_ladder, FirstElement, LadderOptions, Prototype, Termination,
@@ -100,6 +118,10 @@ pub use request::{FitRequest, RequestError, ResolvedFit};
 pub use response::Response;
 pub use sallen_key::{SallenKeyHighPass, SallenKeyLowPass};
 pub use share::{decode_share, encode_share, ShareError};
+pub use stress::{
+    circuit_stress, crossover_stress, parts_list, stress_frequencies, DriverPower, PartStress, PartsListEntry,
+    PartsOptions, RatingMargins, StressError, StressOptions, StressQuantity, StressReport, STRESS_CAUTIONS,
+};
 pub use sweep::{sweep, FrequencyGrid, GridError, Spacing};
 pub use tolerance::{
     Distribution, KindTolerances, ToleranceError, ToleranceOptions, TolerancePlan, ToleranceReport, TrialBatch,

@@ -16,6 +16,10 @@
 //! the bandwidth of sparse symmetric matrices", ACM 1969) on the matrix pattern, which keeps a
 //! ladder banded so that the zero-skipping LU in `lu` does little more than O(n) work.
 //!
+//! A measured impedance is stamped like an inductor, through its branch current, with the
+//! branch equation V(a) − V(b) − Z(ω)·I = 0 and Z(ω) read from its curve; outside the curve's
+//! range the frequency is refused ([`SolveError::OutsideCurve`]).
+//!
 //! Transfer-function convention: H = (V(out+) − V(out−)) / (stimulus amplitude), with every other
 //! independent source set to zero (voltage sources shorted, current sources opened). Element
 //! voltages, currents and powers are computed with the stimulus at its own amplitude, as rms
@@ -114,6 +118,15 @@ pub enum SolveError {
         /// The frequency in Hz.
         f_hz: f64,
     },
+    /// The frequency lies outside the range of a measured impedance's curve.
+    OutsideCurve {
+        /// The frequency in Hz.
+        f_hz: f64,
+        /// The curve's lowest frequency in Hz.
+        low_hz: f64,
+        /// The curve's highest frequency in Hz.
+        high_hz: f64,
+    },
 }
 
 /// A circuit compiled for repeated AC solution: stamps, ordering and reusable buffers.
@@ -174,6 +187,8 @@ enum StampValue {
     InductorBranch { inductance: f64, dcr: f64 },
     /// −A(jω) for a controlled source's sensing column.
     Gain(crate::circuit::Gain),
+    /// Measured impedance branch −Z(ω) on its own diagonal (index into the circuit's curves).
+    MeasuredBranch { curve: usize },
 }
 
 impl fmt::Display for SolveError {
@@ -185,6 +200,10 @@ impl fmt::Display for SolveError {
             Self::Singular { f_hz } => write!(
                 f,
                 "the circuit has no unique solution at {f_hz} Hz (for example a node that floats at this frequency); skip this frequency or add a path to ground"
+            ),
+            Self::OutsideCurve { f_hz, low_hz, high_hz } => write!(
+                f,
+                "{f_hz} Hz is outside the measured impedance curve ({low_hz} Hz to {high_hz} Hz); sweep inside that range or measure a wider one"
             ),
         }
     }
@@ -321,6 +340,11 @@ impl AcSystem {
                     push(Some(k), node_provisional(control.0), -1.0, StampValue::Gain(gain));
                     push(Some(k), node_provisional(control.1), 1.0, StampValue::Gain(gain));
                 }
+                ElementKind::MeasuredImpedance { curve } => {
+                    let k = provisional_branch[index].expect("measured impedance has a branch");
+                    incidence(k, &mut push);
+                    push(Some(k), Some(k), 1.0, StampValue::MeasuredBranch { curve });
+                }
             }
         }
 
@@ -388,13 +412,21 @@ impl AcSystem {
     }
 
     /// The MNA matrix Y(ω) (row-major), its derivative dY/dω and the right-hand side b, in the
-    /// solver's unknown order. For independent checks and benchmarks.
+    /// solver's unknown order. For independent checks and benchmarks. A measured impedance is
+    /// read at the nearest end of its curve outside the curve's range.
     pub fn matrices_at(&self, omega: f64) -> (Vec<Complex64>, Vec<Complex64>, Vec<Complex64>) {
         let n = self.n_unknowns;
         let mut y = vec![Complex64::new(0.0, 0.0); n * n];
         let mut dy = y.clone();
+        let f_hz = omega / (2.0 * std::f64::consts::PI);
         for stamp in &self.stamps {
-            let (value, derivative) = self.values[stamp.value].at(omega);
+            let (value, derivative) = match self.values[stamp.value] {
+                StampValue::MeasuredBranch { curve } => {
+                    let (z, dz) = self.circuit.curves()[curve].value_clamped(f_hz);
+                    (-z, -dz)
+                }
+                value => value.at(omega),
+            };
             y[stamp.row * n + stamp.col] += stamp.sign * value;
             dy[stamp.row * n + stamp.col] += stamp.sign * derivative;
         }
@@ -406,8 +438,8 @@ impl AcSystem {
     }
 
     /// The system as a real matrix pencil Y(s) = G + s·C (a descriptor system C·x′ + G·x = b·u in
-    /// the time domain), when every part is rational in s; `None` otherwise (no part of today's
-    /// model is, but a measured impedance would not be).
+    /// the time domain), when every part is rational in s; `None` otherwise (a circuit with a
+    /// measured impedance).
     ///
     /// The first [`AcSystem::n_unknowns`] unknowns are those of the AC solution. Parts that are
     /// rational but not polynomial in s get internal unknowns after them, so that the pencil stays
@@ -422,6 +454,9 @@ impl AcSystem {
     /// to [`Pencil::n`].
     pub fn pencil(&self) -> Option<Pencil> {
         let n_base = self.n_unknowns;
+        if self.circuit.elements().iter().any(|e| matches!(e.kind, ElementKind::MeasuredImpedance { .. })) {
+            return None;
+        }
         // Internal unknowns, in element order.
         let mut internal = vec![None; self.circuit.elements().len()];
         let mut n = n_base;
@@ -451,6 +486,7 @@ impl AcSystem {
                 StampValue::Gain(crate::circuit::Gain::Constant(a)) => g[at] += stamp.sign * a,
                 // Stamped below through their internal unknowns.
                 StampValue::Capacitor { .. } | StampValue::Gain(crate::circuit::Gain::SinglePole { .. }) => {}
+                StampValue::MeasuredBranch { .. } => unreachable!("a circuit with a measured impedance has no pencil"),
             }
         }
         let slot = |node: Node| self.node_slot[node.index()];
@@ -548,7 +584,17 @@ impl AcSystem {
         let n = self.n_unknowns;
         let zero = Complex64::new(0.0, 0.0);
         for (slot, value) in self.values_at.iter_mut().zip(&self.values) {
-            *slot = value.at(omega);
+            *slot = match *value {
+                StampValue::MeasuredBranch { curve } => {
+                    let curve = &self.circuit.curves()[curve];
+                    let (z, dz) = curve.value_and_derivative_at(f_hz).ok_or_else(|| {
+                        let (low_hz, high_hz) = curve.range_hz();
+                        SolveError::OutsideCurve { f_hz, low_hz, high_hz }
+                    })?;
+                    (-z, -dz)
+                }
+                value => value.at(omega),
+            };
         }
         let matrix = self.lu.assemble(n, self.lower, self.upper);
         for stamp in &self.stamps {
@@ -646,7 +692,7 @@ impl AcSystem {
             ElementKind::Capacitor { capacitance, esr } => {
                 voltage * StampValue::Capacitor { capacitance, esr }.at(omega).0
             }
-            ElementKind::Inductor { .. } | ElementKind::Vcvs { .. } => branch(),
+            ElementKind::Inductor { .. } | ElementKind::Vcvs { .. } | ElementKind::MeasuredImpedance { .. } => branch(),
             ElementKind::VoltageSource { .. } => branch(),
             ElementKind::CurrentSource { current } => Complex64::new(if is_stimulus { -current } else { 0.0 }, 0.0),
         };
@@ -671,12 +717,19 @@ impl StampValue {
                 (Complex64::new(-dcr, -omega * inductance), Complex64::new(0.0, -inductance))
             }
             StampValue::Gain(gain) => gain.at(omega),
+            StampValue::MeasuredBranch { .. } => unreachable!("measured branches are read from their curve"),
         }
     }
 }
 
 fn has_branch(kind: &ElementKind) -> bool {
-    matches!(kind, ElementKind::Inductor { .. } | ElementKind::Vcvs { .. } | ElementKind::VoltageSource { .. })
+    matches!(
+        kind,
+        ElementKind::Inductor { .. }
+            | ElementKind::Vcvs { .. }
+            | ElementKind::VoltageSource { .. }
+            | ElementKind::MeasuredImpedance { .. }
+    )
 }
 
 /// Reverse Cuthill–McKee ordering of `n` unknowns with the given (row, col) pattern.
