@@ -24,8 +24,46 @@ pub enum Command {
     /// Tolerance run: Monte Carlo trials with a fixed seed plus worst-case corners; envelopes,
     /// -3 dB and Q spread, and the yield against a mask.
     Spread(Box<SpreadArgs>),
+    /// Step or impulse response: overshoot, 10-90 % rise and settling (also to ½ LSB of N bits).
+    Step(StepArgs),
     /// Print the safety cautions that apply to building filters and crossovers.
     Cautions,
+}
+
+/// Output formats of `step`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum StepFormat {
+    /// The figures and a thinned table of samples.
+    Table,
+    /// Every sample, with a header row.
+    Csv,
+    /// One JSON object: method, figures and samples.
+    Json,
+}
+
+/// Flags of `step`.
+#[derive(Debug, Args)]
+pub struct StepArgs {
+    /// The design file (JSON, format "bandwright-design").
+    pub design: PathBuf,
+    /// Settling tolerance: a percentage (1%), a fraction (0.001), half-lsb:N or lsb:N.
+    #[arg(long, value_name = "TOL", default_value = "1%")]
+    pub settle: String,
+    /// Time span, e.g. 5m [default: long enough to settle to 2^-25 of the step].
+    #[arg(long, value_name = "T")]
+    pub span: Option<String>,
+    /// Number of time points, both ends included.
+    #[arg(long, value_name = "N", default_value = "1000")]
+    pub points: String,
+    /// The impulse response instead of the step.
+    #[arg(long)]
+    pub impulse: bool,
+    /// Integrate the MNA system even where the exact pole-residue form is available.
+    #[arg(long)]
+    pub integrate: bool,
+    /// Output format.
+    #[arg(long, value_enum, default_value = "table")]
+    pub format: StepFormat,
 }
 
 /// Output formats of `spread`.

@@ -9,6 +9,7 @@ mod args;
 mod options;
 mod output;
 mod spread;
+mod step;
 mod svg;
 
 use anyhow::{Context, Result};
@@ -62,6 +63,12 @@ fn run(cli: args::Cli) -> Result<()> {
             let design = read_design(&options.design)?;
             let run = spread::run(&design, &options)?;
             print!("{}", spread::render(&run, options.format));
+            Ok(())
+        }
+        args::Command::Step(raw) => {
+            let options = step::StepOptions::from_args(raw)?;
+            let design = read_design(&options.design)?;
+            print!("{}", step::run(&design, &options)?);
             Ok(())
         }
         args::Command::Cautions => {
