@@ -38,6 +38,11 @@ pub mod response;
 pub mod sweep;
 pub mod transient;
 
+// Thermal noise at the output; the anti-aliasing front-end workflow built on it.
+pub mod noise;
+
+pub mod adc;
+
 pub mod cautions;
 
 // Synthesis: from a requirement to a circuit of standard parts.
@@ -77,6 +82,10 @@ pub use active::{
     ActiveSection, ActiveTopology, CascadeSpec, FirstOrderSection, OpAmp, PartSensitivity, SectionResult,
     SectionTarget,
 };
+pub use adc::{
+    plan_front_end, AdcError, AdcInput, AdcOptions, AdcRequirement, AliasBand, AttenuationRule, FrontEndReport,
+    Realization,
+};
 pub use circuit::{Circuit, CircuitBuilder, CircuitError, Element, ElementKind, Gain, Node};
 pub use design::{parse_design, Design, DesignError, Load, Part, Source};
 pub use eseries::{PartValues, Series, StockError, StockList};
@@ -94,6 +103,7 @@ pub use measure::{
 pub use mna::{AcSystem, Detail, ElementState, Pencil, Probe, Solution, SolveError};
 pub use modal::{Modal, ModalError, PartialFractions};
 pub use multiple_feedback::{MultipleFeedbackHighPass, MultipleFeedbackLowPass};
+pub use noise::{NoiseAnalysis, NoiseError, NoiseIntegral, NoiseOptions};
 pub use notation::{format_quantity, format_value, parse_value, ParseError, Quantity};
 pub use prototype::{lowpass_prototype, Section, Zpk, MAX_ORDER};
 pub use request::{FitRequest, RequestError, ResolvedFit};
