@@ -22,7 +22,8 @@
 //! the safety text every adapter shows. Synthesis: [`synthesis`] → [`eseries`] → [`prototype`] →
 //! [`transform`] → [`ladder`] → [`fit`] → [`request`] (the requirement as typed); [`active`] →
 //! [`sallen_key`], [`multiple_feedback`] (op-amp RC sections and their cascades); [`mask`] (spec
-//! masks and minimum orders); [`tolerance`] spreads real parts; [`share`] packs a design into a
+//! masks and minimum orders); [`tolerance`] spreads real parts; [`noise`] (resistor thermal
+//! noise at the output) → [`adc`] (the anti-aliasing front end); [`share`] packs a design into a
 //! link. Loudspeaker crossovers: [`driver`] (loads and acoustic data) → [`crossover`] (branches,
 //! compensation, summed response) → [`stress`] (part ratings and the parts list).
 #![deny(missing_docs)]
@@ -38,6 +39,11 @@ pub mod modal;
 pub mod response;
 pub mod sweep;
 pub mod transient;
+
+// Thermal noise at the output; the anti-aliasing front-end workflow built on it.
+pub mod noise;
+
+pub mod adc;
 
 pub mod cautions;
 
@@ -85,6 +91,10 @@ pub use active::{
     ActiveSection, ActiveTopology, CascadeSpec, FirstOrderSection, OpAmp, PartSensitivity, SectionResult,
     SectionTarget,
 };
+pub use adc::{
+    plan_front_end, AdcError, AdcInput, AdcOptions, AdcRequirement, AliasBand, AttenuationRule, FrontEndReport,
+    Realization,
+};
 pub use circuit::{Circuit, CircuitBuilder, CircuitError, CurveError, Element, ElementKind, Gain, MeasuredCurve, Node};
 pub use crossover::{
     design_branch, design_crossover, l_pad, resonance_notch, series_level_resistor, zobel, BranchDesign, BranchFilter,
@@ -112,6 +122,7 @@ pub use measure::{
 pub use mna::{AcSystem, Detail, ElementState, Pencil, Probe, Solution, SolveError};
 pub use modal::{Modal, ModalError, PartialFractions};
 pub use multiple_feedback::{MultipleFeedbackHighPass, MultipleFeedbackLowPass};
+pub use noise::{NoiseAnalysis, NoiseError, NoiseIntegral, NoiseOptions};
 pub use notation::{format_quantity, format_value, parse_value, ParseError, Quantity};
 pub use prototype::{lowpass_prototype, Section, Zpk, MAX_ORDER};
 pub use request::{FitRequest, RequestError, ResolvedFit};
