@@ -26,8 +26,137 @@ pub enum Command {
     Spread(Box<SpreadArgs>),
     /// Step or impulse response: overshoot, 10-90 % rise and settling (also to ½ LSB of N bits).
     Step(StepArgs),
+    /// Anti-aliasing front end for an ADC: order, cutoff and parts from the converter's figures,
+    /// with alias attenuation, sampling settling, charge reservoir, noise and group delay.
+    Frontend(Box<FrontendArgs>),
+    /// A spec mask: the minimum order of each alignment that meets it, or whether a design does.
+    Mask(Box<MaskArgs>),
     /// Print the safety cautions that apply to building filters and crossovers.
     Cautions,
+}
+
+/// Output formats of `mask`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum MaskFormat {
+    /// Readable text.
+    Table,
+    /// One JSON object.
+    Json,
+}
+
+/// Flags of `mask`. Levels in dB, frequencies and times in engineering notation.
+#[derive(Debug, Args)]
+pub struct MaskArgs {
+    /// lowpass, highpass or bandpass.
+    #[arg(long, default_value = "lowpass")]
+    pub response: String,
+    /// Passband edge (band-pass: the lower passband edge).
+    #[arg(long, value_name = "F")]
+    pub pass: Option<String>,
+    /// Stopband edge (band-pass: the upper end of the lower stopband).
+    #[arg(long, value_name = "F")]
+    pub stop: Option<String>,
+    /// Band-pass: the upper passband edge.
+    #[arg(long, value_name = "F")]
+    pub pass_high: Option<String>,
+    /// Band-pass: the lower end of the upper stopband.
+    #[arg(long, value_name = "F")]
+    pub stop_high: Option<String>,
+    /// Largest passband loss (ripple or droop) in dB.
+    #[arg(long, value_name = "DB", default_value = "1")]
+    pub loss: String,
+    /// Smallest stopband attenuation in dB.
+    #[arg(long, value_name = "DB", default_value = "40")]
+    pub atten: String,
+    /// Largest group-delay variation over the passband, e.g. 20u.
+    #[arg(long, value_name = "T")]
+    pub delay_var: Option<String>,
+    /// Read the mask from a JSON file instead of the flags.
+    #[arg(long, value_name = "FILE", conflicts_with_all = ["pass", "stop"])]
+    pub file: Option<PathBuf>,
+    /// Write the mask as a JSON file (for `spread --mask`).
+    #[arg(long, value_name = "FILE")]
+    pub save: Option<PathBuf>,
+    /// Check this design file against the mask instead of listing orders.
+    #[arg(long, value_name = "FILE")]
+    pub design: Option<PathBuf>,
+    /// The frequency grid for --design.
+    #[command(flatten)]
+    pub grid: GridArgs,
+    /// Output format.
+    #[arg(long, value_enum, default_value = "table")]
+    pub format: MaskFormat,
+}
+
+/// Output formats of `frontend`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum FrontendFormat {
+    /// A readable report.
+    Table,
+    /// One JSON object with every figure.
+    Json,
+}
+
+/// Flags of `frontend`. Values are engineering notation.
+#[derive(Debug, Args)]
+pub struct FrontendArgs {
+    /// Sample rate, e.g. 48k.
+    #[arg(long, value_name = "F")]
+    pub fs: String,
+    /// Signal bandwidth (the passband edge), e.g. 20k.
+    #[arg(long, value_name = "F")]
+    pub band: String,
+    /// Converter resolution in bits.
+    #[arg(long, value_name = "N")]
+    pub bits: String,
+    /// Attenuation rule: snr (6.02·N + 1.76 dB), half-lsb (6.02·(N + 1) dB) or a level such as 80dB.
+    #[arg(long, value_name = "RULE", default_value = "snr")]
+    pub rule: String,
+    /// Where the attenuation is required: first (fs − band, the first alias of the band) or nyquist.
+    #[arg(long, value_name = "WHERE", default_value = "first")]
+    pub alias: String,
+    /// Largest passband droop in dB.
+    #[arg(long, value_name = "DB", default_value = "0.5")]
+    pub droop: String,
+    /// Source resistance driving the filter.
+    #[arg(long, value_name = "R", default_value = "0")]
+    pub source: String,
+    /// Converter full scale (for the LSB and noise figures).
+    #[arg(long, value_name = "V", default_value = "3.3")]
+    pub full_scale: String,
+    /// Sampling capacitance of the converter input.
+    #[arg(long, value_name = "C", default_value = "20p")]
+    pub cs: String,
+    /// Sampling switch resistance.
+    #[arg(long, value_name = "R", default_value = "100")]
+    pub rsw: String,
+    /// Acquisition (track) time.
+    #[arg(long, value_name = "T", default_value = "1u")]
+    pub tacq: String,
+    /// auto, rc (passive RC ladder), active (Sallen-Key cascade) or lc.
+    #[arg(long, value_name = "KIND", default_value = "auto")]
+    pub realization: String,
+    /// Op-amp gain-bandwidth product for active sections [default: an ideal op-amp].
+    #[arg(long, value_name = "F")]
+    pub gbw: Option<String>,
+    /// Op-amp open-loop output resistance (with --gbw) [default: 0].
+    #[arg(long, value_name = "R")]
+    pub op_amp_rout: Option<String>,
+    /// Op-amp DC open-loop gain (with --gbw) [default: 100k].
+    #[arg(long, value_name = "A0")]
+    pub op_amp_a0: Option<String>,
+    /// Resistor series.
+    #[arg(long, value_name = "SERIES", default_value = "E96")]
+    pub resistors: String,
+    /// Capacitor series.
+    #[arg(long, value_name = "SERIES", default_value = "E12")]
+    pub capacitors: String,
+    /// Write the fitted front end as a design file.
+    #[arg(long, value_name = "FILE")]
+    pub save: Option<PathBuf>,
+    /// Output format.
+    #[arg(long, value_enum, default_value = "table")]
+    pub format: FrontendFormat,
 }
 
 /// Output formats of `step`.

@@ -6,6 +6,8 @@
 //! exit code 2; nothing here panics on user input.
 
 mod args;
+mod frontend;
+mod limits;
 mod options;
 mod output;
 mod spread;
@@ -19,7 +21,8 @@ use std::process::ExitCode;
 fn main() -> ExitCode {
     let cli = args::Cli::parse();
     match run(cli) {
-        Ok(()) => ExitCode::SUCCESS,
+        Ok(true) => ExitCode::SUCCESS,
+        Ok(false) => ExitCode::from(1),
         Err(error) => {
             eprintln!("error: {error:#}");
             ExitCode::from(2)
@@ -27,7 +30,8 @@ fn main() -> ExitCode {
     }
 }
 
-fn run(cli: args::Cli) -> Result<()> {
+/// Runs a command; `Ok(false)` is a completed check that failed (exit status 1).
+fn run(cli: args::Cli) -> Result<bool> {
     match cli.command {
         args::Command::Sweep(raw) => {
             let options = options::SweepOptions::from_args(raw)?;
@@ -38,14 +42,14 @@ fn run(cli: args::Cli) -> Result<()> {
                     .with_context(|| format!("cannot write the plot to {}", path.display()))?;
             }
             print!("{}", output::render_sweep(&analysis, options.format));
-            Ok(())
+            Ok(true)
         }
         args::Command::Info(raw) => {
             let options = options::InfoOptions::from_args(raw)?;
             let design = read_design(&options.design)?;
             let analysis = output::Analysis::run(&design, &options.grid)?;
             print!("{}", output::render_info(&design, &analysis, &options)?);
-            Ok(())
+            Ok(true)
         }
         args::Command::Fit(raw) => {
             let command = options::FitCommand::from_args(*raw)?;
@@ -56,24 +60,39 @@ fn run(cli: args::Cli) -> Result<()> {
                     .with_context(|| format!("cannot write the design to {}", path.display()))?;
             }
             print!("{}", output::render_fit(&result, command.format));
-            Ok(())
+            Ok(true)
         }
         args::Command::Spread(raw) => {
             let options = spread::SpreadOptions::from_args(*raw)?;
             let design = read_design(&options.design)?;
             let run = spread::run(&design, &options)?;
             print!("{}", spread::render(&run, options.format));
-            Ok(())
+            Ok(true)
         }
         args::Command::Step(raw) => {
             let options = step::StepOptions::from_args(raw)?;
             let design = read_design(&options.design)?;
             print!("{}", step::run(&design, &options)?);
-            Ok(())
+            Ok(true)
+        }
+        args::Command::Frontend(raw) => {
+            let options = frontend::FrontendOptions::from_args(*raw)?;
+            let report = bandwright::adc::plan_front_end(&options.requirement, &options.options)?;
+            if let Some(path) = &options.save {
+                std::fs::write(path, report.design.to_json() + "\n")
+                    .with_context(|| format!("cannot write the design to {}", path.display()))?;
+            }
+            print!("{}", frontend::render(&report, options.format));
+            Ok(true)
+        }
+        args::Command::Mask(raw) => {
+            let (text, pass) = limits::run(&raw)?;
+            print!("{text}");
+            return Ok(pass);
         }
         args::Command::Cautions => {
             print!("{}", output::render_cautions());
-            Ok(())
+            Ok(true)
         }
     }
 }

@@ -580,8 +580,11 @@ impl fmt::Display for AdcError {
             ),
             Self::Unreachable { stopband_edge_hz, attenuation_db, closest_alignment, closest_order, shortfall_db, realization } => write!(
                 f,
-                "no order up to {MAX_ORDER} of the alignments a {} can make reaches {attenuation_db:.2} dB at {stopband_edge_hz} Hz; the closest is {closest_alignment} of order {closest_order}, which misses by {shortfall_db:.2} dB; raise the sample rate, narrow the band, allow more droop or ask for less attenuation",
-                realization.name()
+                "no order up to {MAX_ORDER} {} reaches {attenuation_db:.2} dB at {stopband_edge_hz} Hz; the closest is {closest_alignment} of order {closest_order}, which misses by {shortfall_db:.2} dB; raise the sample rate, narrow the band, allow more droop or ask for less attenuation",
+                match realization {
+                    Realization::Auto => "of any alignment".to_string(),
+                    other => format!("of the alignments a {} can make", other.name()),
+                }
             ),
             Self::Mask(error) => write!(f, "{error}"),
             Self::Fit(error) => write!(f, "{error}"),
