@@ -88,7 +88,7 @@ fn run(cli: args::Cli) -> Result<bool> {
         args::Command::Mask(raw) => {
             let (text, pass) = limits::run(&raw)?;
             print!("{text}");
-            return Ok(pass);
+            Ok(pass)
         }
         args::Command::Cautions => {
             print!("{}", output::render_cautions());
