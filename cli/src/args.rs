@@ -51,25 +51,25 @@ pub struct MaskArgs {
     #[arg(long, default_value = "lowpass")]
     pub response: String,
     /// Passband edge (band-pass: the lower passband edge).
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub pass: Option<String>,
     /// Stopband edge (band-pass: the upper end of the lower stopband).
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub stop: Option<String>,
     /// Band-pass: the upper passband edge.
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub pass_high: Option<String>,
     /// Band-pass: the lower end of the upper stopband.
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub stop_high: Option<String>,
     /// Largest passband loss (ripple or droop) in dB.
-    #[arg(long, value_name = "DB", default_value = "1")]
+    #[arg(long, value_name = "DB", default_value = "1", allow_hyphen_values = true)]
     pub loss: String,
     /// Smallest stopband attenuation in dB.
-    #[arg(long, value_name = "DB", default_value = "40")]
+    #[arg(long, value_name = "DB", default_value = "40", allow_hyphen_values = true)]
     pub atten: String,
     /// Largest group-delay variation over the passband, e.g. 20u.
-    #[arg(long, value_name = "T")]
+    #[arg(long, value_name = "T", allow_hyphen_values = true)]
     pub delay_var: Option<String>,
     /// Read the mask from a JSON file instead of the flags.
     #[arg(long, value_name = "FILE", conflicts_with_all = ["pass", "stop"])]
@@ -101,13 +101,13 @@ pub enum FrontendFormat {
 #[derive(Debug, Args)]
 pub struct FrontendArgs {
     /// Sample rate, e.g. 48k.
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub fs: String,
     /// Signal bandwidth (the passband edge), e.g. 20k.
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub band: String,
     /// Converter resolution in bits.
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", allow_hyphen_values = true)]
     pub bits: String,
     /// Attenuation rule: snr (6.02·N + 1.76 dB), half-lsb (6.02·(N + 1) dB) or a level such as 80dB.
     #[arg(long, value_name = "RULE", default_value = "snr")]
@@ -116,34 +116,34 @@ pub struct FrontendArgs {
     #[arg(long, value_name = "WHERE", default_value = "first")]
     pub alias: String,
     /// Largest passband droop in dB.
-    #[arg(long, value_name = "DB", default_value = "0.5")]
+    #[arg(long, value_name = "DB", default_value = "0.5", allow_hyphen_values = true)]
     pub droop: String,
     /// Source resistance driving the filter.
-    #[arg(long, value_name = "R", default_value = "0")]
+    #[arg(long, value_name = "R", default_value = "0", allow_hyphen_values = true)]
     pub source: String,
     /// Converter full scale (for the LSB and noise figures).
-    #[arg(long, value_name = "V", default_value = "3.3")]
+    #[arg(long, value_name = "V", default_value = "3.3", allow_hyphen_values = true)]
     pub full_scale: String,
     /// Sampling capacitance of the converter input.
-    #[arg(long, value_name = "C", default_value = "20p")]
+    #[arg(long, value_name = "C", default_value = "20p", allow_hyphen_values = true)]
     pub cs: String,
     /// Sampling switch resistance.
-    #[arg(long, value_name = "R", default_value = "100")]
+    #[arg(long, value_name = "R", default_value = "100", allow_hyphen_values = true)]
     pub rsw: String,
     /// Acquisition (track) time.
-    #[arg(long, value_name = "T", default_value = "1u")]
+    #[arg(long, value_name = "T", default_value = "1u", allow_hyphen_values = true)]
     pub tacq: String,
     /// auto, rc (passive RC ladder), active (Sallen-Key cascade) or lc.
     #[arg(long, value_name = "KIND", default_value = "auto")]
     pub realization: String,
     /// Op-amp gain-bandwidth product for active sections [default: an ideal op-amp].
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_hyphen_values = true)]
     pub gbw: Option<String>,
     /// Op-amp open-loop output resistance (with --gbw) [default: 0].
-    #[arg(long, value_name = "R")]
+    #[arg(long, value_name = "R", allow_hyphen_values = true)]
     pub op_amp_rout: Option<String>,
     /// Op-amp DC open-loop gain (with --gbw) [default: 100k].
-    #[arg(long, value_name = "A0")]
+    #[arg(long, value_name = "A0", allow_hyphen_values = true)]
     pub op_amp_a0: Option<String>,
     /// Resistor series.
     #[arg(long, value_name = "SERIES", default_value = "E96")]
@@ -179,7 +179,7 @@ pub struct StepArgs {
     #[arg(long, value_name = "TOL", default_value = "1%")]
     pub settle: String,
     /// Time span, e.g. 5m [default: long enough to settle to 2^-25 of the step].
-    #[arg(long, value_name = "T")]
+    #[arg(long, value_name = "T", allow_hyphen_values = true)]
     pub span: Option<String>,
     /// Number of time points, both ends included.
     #[arg(long, value_name = "N", default_value = "1000")]
@@ -224,19 +224,19 @@ pub struct SpreadArgs {
     #[arg(long, value_name = "DIST", default_value = "uniform")]
     pub distribution: String,
     /// Resistor tolerance in percent.
-    #[arg(long, value_name = "PCT", default_value = "1")]
+    #[arg(long, value_name = "PCT", default_value = "1", allow_hyphen_values = true)]
     pub tol_r: String,
     /// Capacitor tolerance in percent.
-    #[arg(long, value_name = "PCT", default_value = "5")]
+    #[arg(long, value_name = "PCT", default_value = "5", allow_hyphen_values = true)]
     pub tol_c: String,
     /// Inductor tolerance in percent.
-    #[arg(long, value_name = "PCT", default_value = "10")]
+    #[arg(long, value_name = "PCT", default_value = "10", allow_hyphen_values = true)]
     pub tol_l: String,
     /// One part's tolerance, replacing its kind's, e.g. --tol C2=1% (repeatable; 0 holds it fixed).
-    #[arg(long, value_name = "REF=PCT")]
+    #[arg(long, value_name = "REF=PCT", allow_hyphen_values = true)]
     pub tol: Vec<String>,
     /// The central share of trials in the percentile band, in percent.
-    #[arg(long, value_name = "PCT", default_value = "90")]
+    #[arg(long, value_name = "PCT", default_value = "90", allow_hyphen_values = true)]
     pub band: String,
     /// Skip the worst-case corners.
     #[arg(long)]
