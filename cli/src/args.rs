@@ -24,6 +24,9 @@ pub enum Command {
     /// Tolerance run: Monte Carlo trials with a fixed seed plus worst-case corners; envelopes,
     /// -3 dB and Q spread, and the yield against a mask.
     Spread(Box<SpreadArgs>),
+    /// Design a 2-way or 3-way loudspeaker crossover from a crossover file: parts, responses,
+    /// amplifier load, part stress at a stated power, and the cautions.
+    Crossover(Box<crate::crossover::CrossoverArgs>),
     /// Print the safety cautions that apply to building filters and crossovers.
     Cautions,
 }

@@ -6,6 +6,7 @@
 //! exit code 2; nothing here panics on user input.
 
 mod args;
+mod crossover;
 mod options;
 mod output;
 mod spread;
@@ -62,6 +63,17 @@ fn run(cli: args::Cli) -> Result<()> {
             let design = read_design(&options.design)?;
             let run = spread::run(&design, &options)?;
             print!("{}", spread::render(&run, options.format));
+            Ok(())
+        }
+        args::Command::Crossover(raw) => {
+            let mut options = crossover::CrossoverOptions::from_args(*raw)?;
+            let run = crossover::run(&mut options)?;
+            if let Some(path) = &options.svg {
+                let title = if run.file.name.is_empty() { "crossover" } else { &run.file.name };
+                crossover::write_svg(path, &run, title)
+                    .with_context(|| format!("cannot write the plot to {}", path.display()))?;
+            }
+            print!("{}", crossover::render(&run, &options));
             Ok(())
         }
         args::Command::Cautions => {

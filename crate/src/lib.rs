@@ -24,7 +24,8 @@
 //! [`sallen_key`], [`multiple_feedback`] (op-amp RC sections and their cascades); [`mask`] (spec
 //! masks and minimum orders); [`tolerance`] spreads real parts; [`share`] packs a design into a
 //! link. Loudspeaker crossovers: [`driver`] (loads and acoustic data) → [`crossover`] (branches,
-//! compensation, summed response) → [`stress`] (part ratings and the parts list).
+//! compensation, summed response) → [`stress`] (part ratings and the parts list); [`crossover_file`]
+//! reads the crossover file into a request.
 #![deny(missing_docs)]
 
 pub mod notation;
@@ -78,6 +79,8 @@ pub mod driver;
 
 pub mod crossover;
 
+pub mod crossover_file;
+
 pub mod stress;
 
 pub use active::{
@@ -92,6 +95,7 @@ pub use crossover::{
     CrossoverResponse, CrossoverSpec, DesignLoad, ImpedanceMinimum, LPad, LadderElement, LevelMatch, Notch,
     NotchChoice, Placement, Polarity, Reactance, Zobel, ZobelChoice,
 };
+pub use crossover_file::{parse_crossover_file, CrossoverFile, CrossoverFileError};
 pub use design::{parse_design, Design, DesignError, Load, Part, Source};
 pub use driver::{
     parse_impedance_csv, parse_response_csv, Acoustic, AcousticResponse, Coil, DriverError, DriverLoad, DriverModel,
