@@ -31,6 +31,9 @@ pub enum Command {
     Frontend(Box<FrontendArgs>),
     /// A spec mask: the minimum order of each alignment that meets it, or whether a design does.
     Mask(Box<MaskArgs>),
+    /// Design a 2-way or 3-way loudspeaker crossover from a crossover file: parts, responses,
+    /// amplifier load, part stress at a stated power, and the cautions.
+    Crossover(Box<crate::crossover::CrossoverArgs>),
     /// Print the safety cautions that apply to building filters and crossovers.
     Cautions,
 }

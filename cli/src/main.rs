@@ -6,6 +6,7 @@
 //! exit code 2; nothing here panics on user input.
 
 mod args;
+mod crossover;
 mod frontend;
 mod limits;
 mod options;
@@ -89,6 +90,17 @@ fn run(cli: args::Cli) -> Result<bool> {
             let (text, pass) = limits::run(&raw)?;
             print!("{text}");
             Ok(pass)
+        }
+        args::Command::Crossover(raw) => {
+            let mut options = crossover::CrossoverOptions::from_args(*raw)?;
+            let run = crossover::run(&mut options)?;
+            if let Some(path) = &options.svg {
+                let title = if run.file.name.is_empty() { "crossover" } else { &run.file.name };
+                crossover::write_svg(path, &run, title)
+                    .with_context(|| format!("cannot write the plot to {}", path.display()))?;
+            }
+            print!("{}", crossover::render(&run, &options));
+            Ok(true)
         }
         args::Command::Cautions => {
             print!("{}", output::render_cautions());

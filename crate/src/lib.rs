@@ -25,7 +25,8 @@
 //! masks and minimum orders); [`tolerance`] spreads real parts; [`noise`] (resistor thermal
 //! noise at the output) → [`adc`] (the anti-aliasing front end); [`share`] packs a design into a
 //! link. Loudspeaker crossovers: [`driver`] (loads and acoustic data) → [`crossover`] (branches,
-//! compensation, summed response) → [`stress`] (part ratings and the parts list).
+//! compensation, summed response) → [`stress`] (part ratings and the parts list); [`crossover_file`]
+//! reads the crossover file into a request.
 #![deny(missing_docs)]
 
 pub mod notation;
@@ -84,6 +85,8 @@ pub mod driver;
 
 pub mod crossover;
 
+pub mod crossover_file;
+
 pub mod stress;
 
 pub use active::{
@@ -102,6 +105,7 @@ pub use crossover::{
     CrossoverResponse, CrossoverSpec, DesignLoad, ImpedanceMinimum, LPad, LadderElement, LevelMatch, Notch,
     NotchChoice, Placement, Polarity, Reactance, Zobel, ZobelChoice,
 };
+pub use crossover_file::{parse_crossover_file, CrossoverFile, CrossoverFileError};
 pub use design::{parse_design, Design, DesignError, Load, Part, Source};
 pub use driver::{
     parse_impedance_csv, parse_response_csv, Acoustic, AcousticResponse, Coil, DriverError, DriverLoad, DriverModel,

@@ -231,15 +231,43 @@ impl Reduction {
         let mut v = Dual::constant(Complex64::new(1.0, 0.0));
         let mut i = Dual::constant(Complex64::new(0.0, 0.0));
         let mut v_out = v;
+        // The common leaves (ideal shunt capacitor, shunt resistor, series inductor with its DCR,
+        // series resistor) are written out; anything else goes through the general branch code.
+        let j = |x: f64| Complex64::new(0.0, x);
         for (k, step) in self.steps.iter().enumerate() {
-            if let Some(shunt) = &step.shunt {
-                i = i.add(v.mul(self.admittance(shunt, omega, values)));
+            match &step.shunt {
+                Some(Branch::Leaf(index)) if self.kind[*index] == 1 && self.parasitic[*index] == 0.0 => {
+                    let c = values[*index];
+                    // i += v·jωC; i′ += v′·jωC + v·jC.
+                    i.v += v.v * j(omega * c);
+                    i.d += v.d * j(omega * c) + v.v * j(c);
+                }
+                Some(Branch::Leaf(index)) if self.kind[*index] == 0 => {
+                    let g = 1.0 / values[*index];
+                    i.v += v.v * g;
+                    i.d += v.d * g;
+                }
+                Some(shunt) => i = i.add(v.mul(self.admittance(shunt, omega, values))),
+                None => {}
             }
             if k == self.output_step {
                 v_out = v;
             }
-            if let Some(series) = &step.series {
-                v = v.add(self.impedance(series, omega, values).mul(i));
+            match &step.series {
+                Some(Branch::Leaf(index)) if self.kind[*index] == 2 => {
+                    let (l, r) = (values[*index], self.parasitic[*index]);
+                    let z = Complex64::new(r, omega * l);
+                    // v += (r + jωL)·i; v′ += jL·i + (r + jωL)·i′.
+                    v.d += j(l) * i.v + z * i.d;
+                    v.v += z * i.v;
+                }
+                Some(Branch::Leaf(index)) if self.kind[*index] == 0 => {
+                    let r = values[*index];
+                    v.v += i.v * r;
+                    v.d += i.d * r;
+                }
+                Some(series) => v = v.add(self.impedance(series, omega, values).mul(i)),
+                None => {}
             }
         }
         let emf = v.add(i.scale(self.source_ohms));
