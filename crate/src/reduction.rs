@@ -49,6 +49,9 @@ pub struct Reduction {
 struct Step {
     shunt: Option<Branch>,
     series: Option<Branch>,
+    /// The shunt as a plain sum of ideal capacitors (true) and resistors (false), where it is one:
+    /// the common case (a shunt C, or the last C in parallel with the load), summed inline.
+    shunt_sum: Option<Vec<(bool, usize)>>,
 }
 
 /// A two-terminal branch as a series–parallel expression over element indices.
@@ -210,9 +213,21 @@ impl Reduction {
         let count = chain.len();
         let mut steps = Vec::with_capacity(count);
         for position in (0..count).rev() {
+            let shunt = shunt.remove(&chain[position]);
+            let leaf = |b: &Branch| match b {
+                Branch::Leaf(i) if kind[*i] == 1 && parasitic[*i] == 0.0 => Some((true, *i)),
+                Branch::Leaf(i) if kind[*i] == 0 => Some((false, *i)),
+                _ => None,
+            };
+            let shunt_sum = match &shunt {
+                Some(Branch::Parallel(parts)) => parts.iter().map(leaf).collect::<Option<Vec<_>>>(),
+                Some(b) => leaf(b).map(|l| vec![l]),
+                None => None,
+            };
             steps.push(Step {
-                shunt: shunt.remove(&chain[position]),
+                shunt,
                 series: if position > 0 { Some(series_to_next[position - 1].clone()) } else { None },
+                shunt_sum,
             });
         }
         Some(Reduction { steps, output_step: count - 1 - output_position, source_ohms, parasitic, kind })
@@ -235,20 +250,23 @@ impl Reduction {
         // series resistor) are written out; anything else goes through the general branch code.
         let j = |x: f64| Complex64::new(0.0, x);
         for (k, step) in self.steps.iter().enumerate() {
-            match &step.shunt {
-                Some(Branch::Leaf(index)) if self.kind[*index] == 1 && self.parasitic[*index] == 0.0 => {
-                    let c = values[*index];
-                    // i += v·jωC; i′ += v′·jωC + v·jC.
-                    i.v += v.v * j(omega * c);
-                    i.d += v.d * j(omega * c) + v.v * j(c);
+            match (&step.shunt_sum, &step.shunt) {
+                (Some(sum), _) => {
+                    // Y = Σ jωC + Σ 1/R, Y′ = Σ jC; i += v·Y, i′ += v′·Y + v·Y′.
+                    let (mut y, mut dy) = (Complex64::new(0.0, 0.0), Complex64::new(0.0, 0.0));
+                    for &(capacitor, index) in sum {
+                        if capacitor {
+                            y.im += omega * values[index];
+                            dy.im += values[index];
+                        } else {
+                            y.re += 1.0 / values[index];
+                        }
+                    }
+                    i.d += v.d * y + v.v * dy;
+                    i.v += v.v * y;
                 }
-                Some(Branch::Leaf(index)) if self.kind[*index] == 0 => {
-                    let g = 1.0 / values[*index];
-                    i.v += v.v * g;
-                    i.d += v.d * g;
-                }
-                Some(shunt) => i = i.add(v.mul(self.admittance(shunt, omega, values))),
-                None => {}
+                (None, Some(shunt)) => i = i.add(v.mul(self.admittance(shunt, omega, values))),
+                (None, None) => {}
             }
             if k == self.output_step {
                 v_out = v;
@@ -294,6 +312,7 @@ impl Reduction {
                 let c = values[*index];
                 Dual { v: Complex64::new(0.0, omega * c), d: Complex64::new(0.0, c) }
             }
+            Branch::Leaf(index) if self.kind[*index] == 0 => Dual::constant(Complex64::new(1.0 / values[*index], 0.0)),
             Branch::Parallel(parts) => parts
                 .iter()
                 .map(|p| self.admittance(p, omega, values))
