@@ -189,9 +189,14 @@ pub fn render(run: &SpreadRun, format: SpreadFormat) -> String {
                     Some('L') => Quantity::Inductance,
                     _ => Quantity::Resistance,
                 };
+                let origin = match part.origin {
+                    bandwright::tolerance::ToleranceOrigin::Kind => "the default for its kind",
+                    bandwright::tolerance::ToleranceOrigin::Design => "from the design file (its series)",
+                    bandwright::tolerance::ToleranceOrigin::Given => "from --tol",
+                };
                 let _ = writeln!(
                     out,
-                    "  {:<8} {:>12}  ±{}",
+                    "  {:<8} {:>12}  ±{:<10} {origin}",
                     part.reference,
                     format_quantity(part.nominal, quantity, 4),
                     pct(part.tolerance)

@@ -1209,6 +1209,7 @@ pub(crate) fn empty_design(name: &str, load_ohms: Option<f64>) -> Design {
         load: load_ohms.map(|r| Load { node: "out".to_string(), resistance: Some(r), capacitance: None }),
         output: "out".to_string(),
         elements: Vec::new(),
+        tolerances: Default::default(),
     }
 }
 

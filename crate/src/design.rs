@@ -69,6 +69,11 @@ pub struct Design {
     pub output: String,
     /// The parts.
     pub elements: Vec<Part>,
+    /// Each part's tolerance in percent, by reference (resistors, capacitors and inductors only):
+    /// what the tolerance analysis varies it by unless told otherwise. Fitting writes the usual
+    /// tolerance of each part's series here.
+    #[serde(default, skip_serializing_if = "std::collections::BTreeMap::is_empty")]
+    pub tolerances: std::collections::BTreeMap<String, f64>,
 }
 
 /// The design's source: a Thevenin voltage source from `node` to ground.
@@ -219,6 +224,14 @@ pub enum DesignError {
         /// The node name.
         node: String,
     },
+    /// A tolerance names no resistor, capacitor or inductor of the design, or is not a
+    /// percentage from 0 to 100.
+    BadTolerance {
+        /// The reference it names.
+        reference: String,
+        /// The value in percent.
+        value: f64,
+    },
     /// The circuit itself is invalid.
     Circuit(CircuitError),
 }
@@ -247,6 +260,10 @@ impl fmt::Display for DesignError {
             Self::UnusedNode { role, node } => {
                 write!(f, "the {role} names node {node}, which no element connects to; use a node of the elements")
             }
+            Self::BadTolerance { reference, value } => write!(
+                f,
+                "tolerance {value} % of {reference} is not usable; tolerances name a resistor, capacitor or inductor of the design and give a percentage from 0 to 100"
+            ),
             Self::Circuit(error) => write!(f, "{error}"),
         }
     }
@@ -325,6 +342,15 @@ impl Design {
                     builder.vcvs(reference, a, b, &control[0], &control[1], gain)
                 }
             };
+        }
+        for (reference, &value) in &self.tolerances {
+            let is_part = self.elements.iter().any(|p| {
+                matches!(p, Part::Resistor { .. } | Part::Capacitor { .. } | Part::Inductor { .. })
+                    && p.reference() == reference
+            });
+            if !(is_part && value.is_finite() && (0.0..=100.0).contains(&value)) {
+                return Err(DesignError::BadTolerance { reference: reference.clone(), value });
+            }
         }
         let used = |node: &str| {
             crate::circuit::is_ground_name(node) || self.elements.iter().any(|p| p.nodes().iter().any(|n| n == node))

@@ -338,6 +338,24 @@ impl FitResult {
 /// candidate lies in range.
 pub fn fit(requirement: &Requirement, topology: Topology, options: &FitOptions) -> Result<FitResult, SynthesisError> {
     validate(requirement, options)?;
+    let mut result = fit_topology(requirement, topology, options)?;
+    // Each alternative's design carries the usual tolerance of every part's series, for the
+    // tolerance analysis.
+    for alternative in &mut result.alternatives {
+        for part in &alternative.parts {
+            if let Some(t) = part.tolerance_pct {
+                alternative.design.tolerances.insert(part.reference.clone(), t);
+            }
+        }
+    }
+    Ok(result)
+}
+
+fn fit_topology(
+    requirement: &Requirement,
+    topology: Topology,
+    options: &FitOptions,
+) -> Result<FitResult, SynthesisError> {
     match topology {
         Topology::Rc | Topology::Rl => fit_first_order(requirement, topology, options),
         Topology::Rlc(form) => fit_second_order(requirement, form, options),
@@ -1020,6 +1038,7 @@ fn base_design(req: &Requirement, name: &str, note: String, output: &str) -> Des
         load,
         output: output.to_string(),
         elements: Vec::new(),
+        tolerances: Default::default(),
     }
 }
 

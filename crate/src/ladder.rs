@@ -322,6 +322,7 @@ pub fn synthesize_ladder(
         load,
         output: output.to_string(),
         elements: parts,
+        tolerances: Default::default(),
     })
 }
 

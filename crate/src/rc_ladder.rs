@@ -418,6 +418,7 @@ mod tests {
             }),
             output: out,
             elements,
+            tolerances: Default::default(),
         }
     }
 

@@ -116,6 +116,20 @@ pub struct VariedPart {
     pub nominal: f64,
     /// Relative tolerance (fraction).
     pub tolerance: f64,
+    /// Where the tolerance came from.
+    pub origin: ToleranceOrigin,
+}
+
+/// Where a part's tolerance came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ToleranceOrigin {
+    /// The default for its kind of part ([`ToleranceOptions::by_kind`]).
+    Kind,
+    /// The design file (fitting writes each part's series tolerance there).
+    Design,
+    /// Given for this part ([`ToleranceOptions::by_part`]).
+    Given,
 }
 
 /// A compiled tolerance run: the circuit, its varied parts, the grid and the nominal response.
@@ -252,6 +266,8 @@ pub struct PartSummary {
     pub nominal: f64,
     /// Relative tolerance (fraction).
     pub tolerance: f64,
+    /// Where the tolerance came from.
+    pub origin: ToleranceOrigin,
 }
 
 /// Why a tolerance run cannot be set up.
@@ -370,7 +386,23 @@ impl TolerancePlan {
     ) -> Result<TolerancePlan, ToleranceError> {
         let (circuit, probe) = design.to_circuit().map_err(|e| ToleranceError::Design { message: e.to_string() })?;
         let fixed = [crate::design::LOAD_R_REF, crate::design::LOAD_C_REF];
-        Self::with_fixed(&circuit, &probe, grid, options, &fixed)
+        // The design's own tolerances (its parts' series) come first; the options' per-part
+        // tolerances replace them.
+        let mut options = options.clone();
+        let given = std::mem::take(&mut options.by_part);
+        options.by_part = design.tolerances.iter().map(|(r, pct)| (r.clone(), pct / 100.0)).collect();
+        let from_design = options.by_part.len();
+        options.by_part.extend(given);
+        let mut plan = Self::with_fixed(&circuit, &probe, grid, &options, &fixed)?;
+        for part in &mut plan.parts {
+            let last = options.by_part.iter().rposition(|(r, _)| *r == part.reference);
+            part.origin = match last {
+                Some(i) if i < from_design => ToleranceOrigin::Design,
+                Some(_) => ToleranceOrigin::Given,
+                None => ToleranceOrigin::Kind,
+            };
+        }
+        Ok(plan)
     }
 
     /// Compiles a run over `grid` for `circuit` measured by `probe`; every R, L and C varies.
@@ -427,7 +459,13 @@ impl TolerancePlan {
             if fixed.contains(&element.reference.as_str()) {
                 continue;
             }
-            parts.push(VariedPart { reference: element.reference.clone(), element: index, nominal, tolerance });
+            parts.push(VariedPart {
+                reference: element.reference.clone(),
+                element: index,
+                nominal,
+                tolerance,
+                origin: ToleranceOrigin::Kind,
+            });
         }
         for (reference, value) in &options.by_part {
             let value = check(reference, *value)?;
@@ -436,6 +474,7 @@ impl TolerancePlan {
                 .find(|p| p.reference == *reference)
                 .ok_or_else(|| ToleranceError::UnknownPart { reference: reference.clone() })?;
             part.tolerance = value;
+            part.origin = ToleranceOrigin::Given;
         }
         parts.retain(|p| p.tolerance > 0.0);
         if parts.is_empty() {
@@ -650,7 +689,12 @@ impl TolerancePlan {
             parts: self
                 .parts
                 .iter()
-                .map(|p| PartSummary { reference: p.reference.clone(), nominal: p.nominal, tolerance: p.tolerance })
+                .map(|p| PartSummary {
+                    reference: p.reference.clone(),
+                    nominal: p.nominal,
+                    tolerance: p.tolerance,
+                    origin: p.origin,
+                })
                 .collect(),
             f_hz: self.f_hz.clone(),
             gain_db: envelope(|r| &r.gain_db),
@@ -1253,6 +1297,52 @@ mod tests {
                 assert!((fast.group_delay_s[k] - d).abs() < 1e-9 * d.abs().max(1e-12), "delay at {k}");
             }
         }
+    }
+
+    #[test]
+    fn a_designs_tolerances_come_before_the_kinds_and_after_the_given_ones() {
+        let mut design = crate::design::parse_design(
+            r#"{"format": "bandwright-design", "version": 1, "name": "t", "source": {"node": "in", "resistance": 0},
+                "load": {"node": "out", "resistance": 1000}, "output": "out",
+                "elements": [{"ref": "R1", "kind": "resistor", "value": 1000, "nodes": ["in", "out"]},
+                             {"ref": "C1", "kind": "capacitor", "value": 1e-7, "nodes": ["out", "0"]}],
+                "tolerances": {"C1": 2, "R1": 0.1}}"#,
+        )
+        .unwrap();
+        let g = grid(10.0, 1e5, 30);
+        let mut o = options(10, Distribution::Uniform);
+        let plan = TolerancePlan::for_design(&design, &g, &o).unwrap();
+        let summary: Vec<_> = plan.parts().iter().map(|p| (p.reference.as_str(), p.tolerance, p.origin)).collect();
+        // The load resistor does not vary; the design's tolerances apply.
+        assert_eq!(summary, [("R1", 0.001, ToleranceOrigin::Design), ("C1", 0.02, ToleranceOrigin::Design)]);
+        o.by_part = vec![("C1".into(), 0.1)];
+        let plan = TolerancePlan::for_design(&design, &g, &o).unwrap();
+        assert_eq!((plan.parts()[1].tolerance, plan.parts()[1].origin), (0.1, ToleranceOrigin::Given));
+        design.tolerances.clear();
+        let plan = TolerancePlan::for_design(&design, &g, &o).unwrap();
+        assert_eq!(plan.parts()[0].origin, ToleranceOrigin::Kind);
+        design.tolerances.insert("L9".into(), 5.0);
+        assert!(matches!(TolerancePlan::for_design(&design, &g, &o), Err(ToleranceError::Design { .. })));
+    }
+
+    #[test]
+    fn fitted_designs_carry_their_series_tolerances() {
+        let request = crate::request::FitRequest {
+            cutoff: Some("1k".into()),
+            order: Some("1".into()),
+            topology: Some("rc".into()),
+            resistors: Some("E96".into()),
+            capacitors: Some("E6".into()),
+            ..Default::default()
+        };
+        let r = request.resolve().unwrap();
+        let fit = crate::fit::fit(&r.requirement, r.topology, &r.options).unwrap();
+        let design = &fit.alternatives[0].design;
+        // Source: references.md §1.4, usual tolerances: E96 1 %, E6 20 %.
+        let values: Vec<f64> = design.tolerances.values().copied().collect();
+        assert!(values.contains(&1.0) && values.contains(&20.0), "{:?}", design.tolerances);
+        let reread = crate::design::parse_design(&design.to_json()).unwrap();
+        assert_eq!(reread.tolerances, design.tolerances);
     }
 
     #[test]

@@ -172,6 +172,7 @@ fn passive_design() -> impl Strategy<Value = Design> {
                 }),
                 output: node_name(output),
                 elements: network.design_parts(),
+                tolerances: Default::default(),
             },
         )
     })
@@ -406,6 +407,7 @@ fn any_design() -> impl Strategy<Value = Design> {
                     }),
                     output: node_name(output),
                     elements,
+                    tolerances: Default::default(),
                 }
             },
         )
@@ -461,6 +463,7 @@ fn passivity_with_floating_islands_at_the_port() {
             Part::Resistor { reference: "R6".into(), value: 12.03989305671411, nodes: ["n2".into(), "n1".into()] },
             cap("C7", 5.533649828411433e-6, "n1", "n2", Some(0.07647192780551157)),
         ],
+        tolerances: Default::default(),
     };
     for f_hz in [15.62583922579973, 2828.4067240046224, 3008.785158870762] {
         let z = solve(&design, f_hz, Detail::Transfer).and_then(|s| s.input_impedance).expect("solvable");

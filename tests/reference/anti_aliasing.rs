@@ -109,6 +109,7 @@ fn rc_design(r: f64, c: f64) -> Design {
                 series_resistance: None,
             },
         ],
+        tolerances: Default::default(),
     }
 }
 
