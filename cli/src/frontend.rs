@@ -143,9 +143,9 @@ pub fn render(report: &FrontEndReport, format: FrontendFormat) -> String {
             _ => {
                 let _ = writeln!(
                     out,
-                    "  {name:<22} not reachable up to order 8; closest order {} short by {:.2} dB",
+                    "  {name:<22} not reachable up to order 8; closest order {} short by {}",
                     o.closest_order.map_or("—".to_string(), |n| n.to_string()),
-                    o.shortfall_db.unwrap_or(f64::NAN)
+                    o.shortfall_db.map_or("—".to_string(), |d| format!("{d:.2} dB"))
                 );
             }
         }

@@ -184,9 +184,9 @@ pub fn render(run: &SpreadRun, format: SpreadFormat) -> String {
             );
             let _ = writeln!(out, "\nparts that vary:");
             for part in &report.parts {
-                let quantity = match part.reference.chars().next() {
-                    Some('C') => Quantity::Capacitance,
-                    Some('L') => Quantity::Inductance,
+                let quantity = match part.kind {
+                    "capacitor" => Quantity::Capacitance,
+                    "inductor" => Quantity::Inductance,
                     _ => Quantity::Resistance,
                 };
                 let origin = match part.origin {

@@ -15,8 +15,11 @@
 //!
 //! Run: `cargo bench -p bandwright --bench sweep` (readable) or `-- --json` (one JSON line).
 
+#[path = "common/ladder.rs"]
+mod ladder;
+
 use bandwright::sweep::sweep_fast;
-use bandwright::{sweep, AcSystem, CircuitBuilder, Detail, FrequencyGrid, Modal, Probe, Response, Spacing};
+use bandwright::{sweep, AcSystem, Detail, FrequencyGrid, Modal, Probe, Response, Spacing};
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 use std::f64::consts::PI;
@@ -26,25 +29,9 @@ use std::time::Instant;
 const POINTS: usize = 10_000;
 const REPEATS: usize = 15;
 
+/// The bench circuit: the 7th-order ladder of `common/ladder.rs` (50 Ω, 1 MHz).
 fn ladder7() -> (bandwright::Circuit, Probe) {
-    // Source: Butterworth prototype g_k = 2 sin((2k−1)π/2n) (references §2.1); shunt C first.
-    let (r0, omega_c, n) = (50.0, 2.0 * PI * 1e6, 7);
-    let mut b = CircuitBuilder::new();
-    b.voltage_source("V1", "n1", "0", 1.0, r0);
-    let mut node = 1;
-    for k in 1..=n {
-        let g = 2.0 * ((2 * k - 1) as f64 * PI / (2 * n) as f64).sin();
-        if k % 2 == 1 {
-            b.capacitor(&format!("C{k}"), &format!("n{node}"), "0", g / (r0 * omega_c));
-        } else {
-            b.inductor(&format!("L{k}"), &format!("n{node}"), &format!("n{}", node + 1), g * r0 / omega_c);
-            node += 1;
-        }
-    }
-    b.resistor("RL", &format!("n{node}"), "0", r0);
-    let circuit = b.build().expect("ladder is valid");
-    let probe = Probe::new(&circuit, "V1", &format!("n{node}"), "0").expect("probe");
-    (circuit, probe)
+    ladder::butterworth_ladder(7, 50.0, 1e6)
 }
 
 fn median(mut v: Vec<f64>) -> f64 {

@@ -13,9 +13,11 @@
 //!
 //! Run: `cargo bench -p bandwright --bench tolerance` (readable) or `-- --json` (one JSON line).
 
+#[path = "common/ladder.rs"]
+mod ladder;
+
 use bandwright::tolerance::{Distribution, KindTolerances, ToleranceOptions, TolerancePlan, TrialBatch};
-use bandwright::{CircuitBuilder, FrequencyGrid, Probe, Spacing};
-use std::f64::consts::PI;
+use bandwright::{FrequencyGrid, Probe, Spacing};
 use std::hint::black_box;
 use std::time::Instant;
 
@@ -23,25 +25,9 @@ const TRIALS: usize = 10_000;
 const POINTS: usize = 200;
 const REPEATS: usize = 7;
 
-/// The bench circuit: g_k = 2 sin((2k−1)π/2n) (references §2.1), shunt C first, 50 Ω both ends.
-pub fn ladder5() -> (bandwright::Circuit, Probe) {
-    let (r0, omega_c, n) = (50.0, 2.0 * PI * 1e6, 5);
-    let mut b = CircuitBuilder::new();
-    b.voltage_source("V1", "n1", "0", 1.0, r0);
-    let mut node = 1;
-    for k in 1..=n {
-        let g = 2.0 * ((2 * k - 1) as f64 * PI / (2 * n) as f64).sin();
-        if k % 2 == 1 {
-            b.capacitor(&format!("C{k}"), &format!("n{node}"), "0", g / (r0 * omega_c));
-        } else {
-            b.inductor(&format!("L{k}"), &format!("n{node}"), &format!("n{}", node + 1), g * r0 / omega_c);
-            node += 1;
-        }
-    }
-    b.resistor("RL", &format!("n{node}"), "0", r0);
-    let circuit = b.build().expect("ladder is valid");
-    let probe = Probe::new(&circuit, "V1", &format!("n{node}"), "0").expect("probe");
-    (circuit, probe)
+/// The bench circuit: the 5th-order ladder of `common/ladder.rs` (50 Ω, 1 MHz).
+fn ladder5() -> (bandwright::Circuit, Probe) {
+    ladder::butterworth_ladder(5, 50.0, 1e6)
 }
 
 fn options(pole_spread: bool) -> ToleranceOptions {

@@ -774,10 +774,13 @@ pub fn fit_requirement(
         ..ActiveOptions::default()
     };
     let mut parts = ActiveParts::new(options.parts.resistors.clone(), options.parts.capacitors.clone());
-    // The fit's resistor range, clipped to what suits op-amp sections (see [`ActiveParts`]).
+    // The fit's resistor range, narrowed to what suits op-amp sections (see [`ActiveParts`])
+    // where the two overlap; a range outside that is the person's explicit choice and is used
+    // as given.
     let (lo, hi) = options.resistor_range;
-    parts.resistor_range =
-        (lo.max(parts.resistor_range.0), hi.min(parts.resistor_range.1).max(lo.max(parts.resistor_range.0)));
+    let (suited_lo, suited_hi) = parts.resistor_range;
+    let (overlap_lo, overlap_hi) = (lo.max(suited_lo), hi.min(suited_hi));
+    parts.resistor_range = if overlap_lo <= overlap_hi { (overlap_lo, overlap_hi) } else { (lo, hi) };
     let fitted = fit_cascade(&spec, &active_options, &parts).map_err(realization)?;
     let ideal = design_cascade(&spec, &active_options).map_err(realization)?;
     let worst = |pick: &dyn Fn(&SectionResult) -> Option<f64>| {

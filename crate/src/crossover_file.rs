@@ -50,11 +50,15 @@ use crate::crossover::{
     design_crossover, BranchSpec, Crossover, CrossoverAlignment, CrossoverError, CrossoverSpec, DesignLoad, LevelMatch,
     NotchChoice, Polarity, ZobelChoice, MAX_BRANCH_ORDER,
 };
+use crate::design::read::{
+    optional_frequency, optional_inductance, optional_ratio, optional_resistance, optional_time, ratio, resistance,
+    NumberOrText,
+};
 use crate::driver::{
     parse_impedance_csv, parse_response_csv, Acoustic, AcousticResponse, Coil, DriverError, DriverLoad, DriverModel,
     Resonance,
 };
-use crate::notation::{parse_value, Quantity};
+use crate::notation::Quantity;
 use serde::{Deserialize, Deserializer, Serialize};
 use std::collections::BTreeMap;
 use std::fmt;
@@ -653,58 +657,11 @@ fn finite(field: &str, value: f64) -> Result<(), CrossoverFileError> {
     }
 }
 
-/// A JSON value that is a number or a string in engineering notation.
-#[derive(Deserialize)]
-#[serde(untagged)]
-enum NumberOrText {
-    Number(f64),
-    Text(String),
-}
-
-fn read_quantity<'de, D: Deserializer<'de>>(deserializer: D, quantity: Quantity) -> Result<f64, D::Error> {
-    match NumberOrText::deserialize(deserializer).map_err(|_| {
-        serde::de::Error::custom(format!(
-            "expected a {} as a number in SI units or a string such as \"4k7\" or \"2.2m\"",
-            quantity.name()
-        ))
-    })? {
-        NumberOrText::Number(x) => Ok(x),
-        NumberOrText::Text(text) => parse_value(&text, quantity).map_err(serde::de::Error::custom),
-    }
-}
-
 fn frequencies<'de, D: Deserializer<'de>>(deserializer: D) -> Result<Vec<f64>, D::Error> {
     let items = Vec::<NumberOrText>::deserialize(deserializer).map_err(|_| {
         serde::de::Error::custom("expected a list of frequencies, numbers in Hz or strings such as \"2k5\"")
     })?;
-    items
-        .into_iter()
-        .map(|item| match item {
-            NumberOrText::Number(x) => Ok(x),
-            NumberOrText::Text(text) => parse_value(&text, Quantity::Frequency).map_err(serde::de::Error::custom),
-        })
-        .collect()
-}
-
-macro_rules! quantity_readers {
-    ($($name:ident, $optional:ident => $quantity:expr;)*) => {$(
-        #[allow(dead_code)]
-        fn $name<'de, D: Deserializer<'de>>(deserializer: D) -> Result<f64, D::Error> {
-            read_quantity(deserializer, $quantity)
-        }
-        #[allow(dead_code)]
-        fn $optional<'de, D: Deserializer<'de>>(deserializer: D) -> Result<Option<f64>, D::Error> {
-            read_quantity(deserializer, $quantity).map(Some)
-        }
-    )*};
-}
-
-quantity_readers! {
-    resistance, optional_resistance => Quantity::Resistance;
-    inductance, optional_inductance => Quantity::Inductance;
-    frequency, optional_frequency => Quantity::Frequency;
-    time, optional_time => Quantity::Time;
-    ratio, optional_ratio => Quantity::Ratio;
+    items.into_iter().map(|item| item.value(Quantity::Frequency).map_err(serde::de::Error::custom)).collect()
 }
 
 #[cfg(test)]

@@ -32,8 +32,7 @@
 
 use crate::circuit::{Circuit, CircuitBuilder, CircuitError, ElementKind, Gain};
 use crate::mna::Probe;
-use crate::notation::{parse_value, Quantity};
-use serde::{Deserialize, Deserializer, Serialize};
+use serde::{Deserialize, Serialize};
 use std::fmt;
 
 /// The value of the `format` field.
@@ -426,47 +425,70 @@ fn is_one(x: &f64) -> bool {
     *x == 1.0
 }
 
-/// A JSON value that is a number or a string in engineering notation.
-#[derive(Deserialize)]
-#[serde(untagged)]
-enum NumberOrText {
-    Number(f64),
-    Text(String),
-}
+pub(crate) use read::*;
 
-fn read_quantity<'de, D: Deserializer<'de>>(deserializer: D, quantity: Quantity) -> Result<f64, D::Error> {
-    match NumberOrText::deserialize(deserializer).map_err(|_| {
-        serde::de::Error::custom(format!(
-            "expected a {} as a number in SI units or a string such as \"4k7\" or \"100n\"",
-            quantity.name()
-        ))
-    })? {
-        NumberOrText::Number(x) => Ok(x),
-        NumberOrText::Text(text) => parse_value(&text, quantity).map_err(serde::de::Error::custom),
+/// Serde readers for SI values written as a number or as a string in engineering notation
+/// ("4k7", "100n"), shared by the file formats of the core (design and crossover files).
+pub(crate) mod read {
+    use crate::notation::{parse_value, Quantity};
+    use serde::{Deserialize, Deserializer};
+
+    /// A JSON value that is a number or a string in engineering notation.
+    #[derive(Deserialize)]
+    #[serde(untagged)]
+    pub(crate) enum NumberOrText {
+        Number(f64),
+        Text(String),
     }
-}
 
-macro_rules! quantity_readers {
-    ($($name:ident, $optional:ident => $quantity:expr;)*) => {$(
-        #[allow(dead_code)]
-        fn $name<'de, D: Deserializer<'de>>(deserializer: D) -> Result<f64, D::Error> {
-            read_quantity(deserializer, $quantity)
+    impl NumberOrText {
+        /// The value in SI units, parsing text as `quantity`.
+        pub(crate) fn value(self, quantity: Quantity) -> Result<f64, crate::notation::ParseError> {
+            match self {
+                NumberOrText::Number(x) => Ok(x),
+                NumberOrText::Text(text) => parse_value(&text, quantity),
+            }
         }
-        #[allow(dead_code)]
-        fn $optional<'de, D: Deserializer<'de>>(deserializer: D) -> Result<Option<f64>, D::Error> {
-            read_quantity(deserializer, $quantity).map(Some)
-        }
-    )*};
-}
+    }
 
-quantity_readers! {
-    resistance, optional_resistance => Quantity::Resistance;
-    capacitance, optional_capacitance => Quantity::Capacitance;
-    inductance, optional_inductance => Quantity::Inductance;
-    voltage, optional_voltage => Quantity::Voltage;
-    current, optional_current => Quantity::Current;
-    ratio, optional_ratio => Quantity::Ratio;
-    frequency, optional_frequency => Quantity::Frequency;
+    pub(crate) fn read_quantity<'de, D: Deserializer<'de>>(
+        deserializer: D,
+        quantity: Quantity,
+    ) -> Result<f64, D::Error> {
+        NumberOrText::deserialize(deserializer)
+            .map_err(|_| {
+                serde::de::Error::custom(format!(
+                    "expected a {} as a number in SI units or a string such as \"4k7\" or \"100n\"",
+                    quantity.name()
+                ))
+            })?
+            .value(quantity)
+            .map_err(serde::de::Error::custom)
+    }
+
+    macro_rules! quantity_readers {
+        ($($name:ident, $optional:ident => $quantity:expr;)*) => {$(
+            #[allow(dead_code)]
+            pub(crate) fn $name<'de, D: Deserializer<'de>>(deserializer: D) -> Result<f64, D::Error> {
+                read_quantity(deserializer, $quantity)
+            }
+            #[allow(dead_code)]
+            pub(crate) fn $optional<'de, D: Deserializer<'de>>(deserializer: D) -> Result<Option<f64>, D::Error> {
+                read_quantity(deserializer, $quantity).map(Some)
+            }
+        )*};
+    }
+
+    quantity_readers! {
+        resistance, optional_resistance => Quantity::Resistance;
+        capacitance, optional_capacitance => Quantity::Capacitance;
+        inductance, optional_inductance => Quantity::Inductance;
+        voltage, optional_voltage => Quantity::Voltage;
+        current, optional_current => Quantity::Current;
+        ratio, optional_ratio => Quantity::Ratio;
+        frequency, optional_frequency => Quantity::Frequency;
+        time, optional_time => Quantity::Time;
+    }
 }
 
 #[cfg(test)]

@@ -118,6 +118,8 @@ pub struct VariedPart {
     pub tolerance: f64,
     /// Where the tolerance came from.
     pub origin: ToleranceOrigin,
+    /// "resistor", "capacitor" or "inductor".
+    pub kind: &'static str,
 }
 
 /// Where a part's tolerance came from.
@@ -268,6 +270,8 @@ pub struct PartSummary {
     pub tolerance: f64,
     /// Where the tolerance came from.
     pub origin: ToleranceOrigin,
+    /// "resistor", "capacitor" or "inductor".
+    pub kind: &'static str,
 }
 
 /// Why a tolerance run cannot be set up.
@@ -465,6 +469,7 @@ impl TolerancePlan {
                 nominal,
                 tolerance,
                 origin: ToleranceOrigin::Kind,
+                kind: element.kind.name(),
             });
         }
         for (reference, value) in &options.by_part {
@@ -694,6 +699,7 @@ impl TolerancePlan {
                     nominal: p.nominal,
                     tolerance: p.tolerance,
                     origin: p.origin,
+                    kind: p.kind,
                 })
                 .collect(),
             f_hz: self.f_hz.clone(),
@@ -740,21 +746,6 @@ impl TolerancePlan {
         let unchecked = trials - margins.len();
         let worst_margin = summary(nominal.worst_margin_db, &mut margins, &[], unchecked, lo, hi);
         Ok(MaskYield { passed, trials, nominal, worst_margin })
-    }
-
-    /// The fraction of trial responses for which `passes` holds (NaN-free: 0 with no trials).
-    pub fn yield_of(&self, batches: &[TrialBatch], passes: impl Fn(&[f64], &TrialResponse) -> bool) -> (usize, usize) {
-        let mut total = 0;
-        let mut good = 0;
-        for batch in batches.iter().filter(|b| !b.trials.is_empty()) {
-            for response in &batch.responses {
-                total += 1;
-                if passes(&self.f_hz, response) {
-                    good += 1;
-                }
-            }
-        }
-        (good, total)
     }
 
     /// The circuit with each varied part's value multiplied.
@@ -1025,8 +1016,9 @@ impl PencilSolver {
     }
 }
 
-/// Whether the plan's nominal response matches the engine's LU sweep (gain within 1e-9 dB
-/// relative to its size, group delay within 1e-9 relative), point for point.
+/// Whether the plan's nominal response matches the engine's LU sweep point for point: gain
+/// within 1e-9 dB (relative to its size where above 1 dB), group delay within 1e-7 relative (the
+/// delay is a quotient H′/H, which loses a few digits deep in a stopband).
 fn agrees_with(nominal: &TrialResponse, exact: &Response) -> bool {
     let gain = exact.magnitude_db();
     let delay = exact.group_delay_s();
