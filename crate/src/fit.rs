@@ -341,10 +341,20 @@ pub fn fit(requirement: &Requirement, topology: Topology, options: &FitOptions) 
     let mut result = fit_topology(requirement, topology, options)?;
     // Each alternative's design carries the usual tolerance of every part's series, for the
     // tolerance analysis.
+    // A pair is written as two parts, `{reference}a` and `{reference}b` (see `add_part`).
     for alternative in &mut result.alternatives {
         for part in &alternative.parts {
-            if let Some(t) = part.tolerance_pct {
-                alternative.design.tolerances.insert(part.reference.clone(), t);
+            let Some(t) = part.tolerance_pct else { continue };
+            let references = match part.choice.arrangement {
+                Arrangement::Single => vec![part.reference.clone()],
+                Arrangement::Series | Arrangement::Parallel => {
+                    vec![format!("{}a", part.reference), format!("{}b", part.reference)]
+                }
+            };
+            for reference in references {
+                if alternative.design.elements.iter().any(|p| p.reference() == reference) {
+                    alternative.design.tolerances.insert(reference, t);
+                }
             }
         }
     }

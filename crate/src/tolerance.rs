@@ -1335,6 +1335,26 @@ mod tests {
         assert!(values.contains(&1.0) && values.contains(&20.0), "{:?}", design.tolerances);
         let reread = crate::design::parse_design(&design.to_json()).unwrap();
         assert_eq!(reread.tolerances, design.tolerances);
+        // With pairs allowed, a pair's two parts each carry the tolerance and the design reads back.
+        let ladder = crate::request::FitRequest {
+            cutoff: Some("10M".into()),
+            order: Some("5".into()),
+            source: Some("50".into()),
+            load: Some("50".into()),
+            combine: true,
+            ..Default::default()
+        }
+        .resolve()
+        .unwrap();
+        let fit = crate::fit::fit(&ladder.requirement, ladder.topology, &ladder.options).unwrap();
+        let mut pairs = 0;
+        for alternative in &fit.alternatives {
+            let design = &alternative.design;
+            assert!(crate::design::parse_design(&design.to_json()).is_ok(), "{:?}", design.tolerances);
+            assert_eq!(design.tolerances.len(), design.elements.len(), "{:?}", design.tolerances);
+            pairs += alternative.parts.iter().filter(|p| p.choice.parts.len() == 2).count();
+        }
+        assert!(pairs > 0, "the case must exercise pairs");
     }
 
     #[test]
