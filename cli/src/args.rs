@@ -349,6 +349,34 @@ pub struct FitArgs {
     /// Write the best alternative as a design file that `bandwright sweep` reads.
     #[arg(long, value_name = "FILE")]
     pub save: Option<PathBuf>,
+    /// Rank alternatives by nominal error, or by yield against --mask over a seeded Monte Carlo
+    /// run (each part's tolerance from its series; more candidates are fitted and re-ranked).
+    #[arg(long, value_enum, default_value = "error")]
+    pub rank_by: RankBy,
+    /// The spec mask file (JSON) for --rank-by yield.
+    #[arg(long, value_name = "FILE")]
+    pub mask: Option<PathBuf>,
+    /// Monte Carlo trials per alternative for --rank-by yield.
+    #[arg(long, value_name = "N", default_value = "500")]
+    pub trials: String,
+    /// The seed of the yield run; the same seed gives the same ranking.
+    #[arg(long, value_name = "SEED", default_value = "1")]
+    pub seed: String,
+    /// uniform, or normal (tolerance = 3σ), for --rank-by yield.
+    #[arg(long, value_name = "DIST", default_value = "uniform")]
+    pub distribution: String,
+    /// Threads for the yield run [default: every core].
+    #[arg(long, value_name = "N")]
+    pub threads: Option<String>,
+}
+
+/// What `fit` ranks by.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum RankBy {
+    /// The nominal error of the rounded parts against the ideal response.
+    Error,
+    /// The fraction of Monte Carlo trials inside a spec mask (needs --mask).
+    Yield,
 }
 
 /// Output formats of `sweep`.

@@ -55,12 +55,14 @@ fn run(cli: args::Cli) -> Result<bool> {
         args::Command::Fit(raw) => {
             let command = options::FitCommand::from_args(*raw)?;
             let result = bandwright::fit::fit(&command.requirement, command.topology, &command.options)?;
+            let ranked = command.yield_rank.as_ref().map(|y| y.rank(&result)).transpose()?;
+            let result = ranked.as_ref().map_or(&result, |r| &r.fit);
             if let Some(path) = &command.save {
                 let best = result.alternatives.first().ok_or_else(|| anyhow::anyhow!("no alternative to save"))?;
                 std::fs::write(path, best.design.to_json() + "\n")
                     .with_context(|| format!("cannot write the design to {}", path.display()))?;
             }
-            print!("{}", output::render_fit(&result, command.format));
+            print!("{}", output::render_fit(result, ranked.as_ref(), command.format));
             Ok(true)
         }
         args::Command::Spread(raw) => {

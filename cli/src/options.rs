@@ -127,6 +127,8 @@ pub struct FitCommand {
     pub format: crate::args::FitFormat,
     /// Where to save the best design.
     pub save: Option<PathBuf>,
+    /// The yield ranking, when asked for (`--rank-by yield`).
+    pub yield_rank: Option<crate::spread::YieldRankOptions>,
 }
 
 impl FitCommand {
@@ -177,12 +179,34 @@ impl FitCommand {
         };
         let resolved =
             request.resolve().map_err(|e| anyhow::anyhow!("--{}: {}", e.field().replace('_', "-"), e.message()))?;
+        let yield_rank = match raw.rank_by {
+            crate::args::RankBy::Error => {
+                if raw.mask.is_some() {
+                    bail!("--mask is used only with --rank-by yield; add --rank-by yield, or drop --mask");
+                }
+                None
+            }
+            crate::args::RankBy::Yield => Some(crate::spread::YieldRankOptions::from_flags(
+                raw.mask.as_deref(),
+                &raw.trials,
+                &raw.seed,
+                &raw.distribution,
+                raw.threads.as_deref(),
+            )?),
+        };
+        let mut options = resolved.options;
+        let wanted = options.alternatives;
+        if yield_rank.is_some() {
+            // Re-rank a wider field of candidates, then keep as many as were asked for.
+            options.alternatives = (wanted * 3).clamp(10, 60);
+        }
         Ok(Self {
             requirement: resolved.requirement,
             topology: resolved.topology,
-            options: resolved.options,
+            options,
             format: raw.format,
             save: raw.save,
+            yield_rank: yield_rank.map(|y| y.keeping(wanted)),
         })
     }
 }

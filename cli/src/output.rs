@@ -275,12 +275,17 @@ fn part_quantity(kind: &str) -> Quantity {
 }
 
 /// Renders a fit result.
-pub fn render_fit(result: &bandwright::fit::FitResult, format: crate::args::FitFormat) -> String {
+pub fn render_fit(
+    result: &bandwright::fit::FitResult,
+    ranked: Option<&bandwright::yield_rank::YieldRankedFit>,
+    format: crate::args::FitFormat,
+) -> String {
     use bandwright::fit::Arrangement;
     let mut out = String::new();
     match format {
         crate::args::FitFormat::Json => {
-            out.push_str(&serde_json::to_string_pretty(&result.to_json()).expect("JSON of plain values"));
+            let value = ranked.map_or_else(|| result.to_json(), |r| r.to_json());
+            out.push_str(&serde_json::to_string_pretty(&value).expect("JSON of plain values"));
             out.push('\n');
         }
         crate::args::FitFormat::Table => {
@@ -324,6 +329,19 @@ pub fn render_fit(result: &bandwright::fit::FitResult, format: crate::args::FitF
                     figures.join(", "),
                     a.max_response_deviation_db
                 );
+                if let Some(y) = ranked.and_then(|r| r.yields.get(rank)) {
+                    let m = &y.mask_yield;
+                    let _ = writeln!(
+                        out,
+                        "  yield {} of {} trials inside the mask ({:.1} %); nominal {} with worst margin {:.3} dB; #{} by nominal error",
+                        m.passed,
+                        m.trials,
+                        100.0 * y.fraction,
+                        if m.nominal.pass { "passes" } else { "fails" },
+                        m.nominal.worst_margin_db,
+                        y.nominal_rank + 1
+                    );
+                }
                 let _ = writeln!(
                     out,
                     "  {:<5} {:<10} {:>12}  {:<26} {:<8} {:>6}  {:>9}",

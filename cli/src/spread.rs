@@ -34,18 +34,8 @@ impl SpreadOptions {
     /// Validates the raw flags (and reads the mask file).
     pub fn from_args(raw: SpreadArgs) -> Result<Self> {
         let trials = whole("--trials", &raw.trials, 0.0, bandwright::tolerance::MAX_TRIALS as f64)?;
-        let seed = raw
-            .seed
-            .trim()
-            .parse::<u64>()
-            .map_err(|_| anyhow::anyhow!("--seed {}: give a whole number from 0 to {}", raw.seed, u64::MAX))?;
-        let distribution = match raw.distribution.trim().to_ascii_lowercase().as_str() {
-            "uniform" => Distribution::Uniform,
-            "normal" => Distribution::Normal,
-            other => bail!(
-                "--distribution {other}: use uniform (equally likely within ±tolerance) or normal (tolerance = 3σ)"
-            ),
-        };
+        let seed = parse_seed(&raw.seed)?;
+        let distribution = parse_distribution(&raw.distribution)?;
         let by_kind = KindTolerances {
             resistor: percent("--tol-r", &raw.tol_r)?,
             capacitor: percent("--tol-c", &raw.tol_c)?,
@@ -59,22 +49,8 @@ impl SpreadOptions {
             by_part.push((reference.trim().to_string(), percent("--tol", value)?));
         }
         let band = percent("--band", &raw.band)?;
-        let mask = match &raw.mask {
-            Some(path) => {
-                let text = std::fs::read_to_string(path)
-                    .with_context(|| format!("--mask: cannot read mask file {}", path.display()))?;
-                let mask: SpecMask = serde_json::from_str(&text).with_context(|| {
-                    format!("--mask {}: not a spec mask (see examples/*.mask.json)", path.display())
-                })?;
-                mask.validate().with_context(|| format!("--mask {}", path.display()))?;
-                Some(mask)
-            }
-            None => None,
-        };
-        let threads = match &raw.threads {
-            Some(text) => whole("--threads", text, 1.0, 256.0)?,
-            None => std::thread::available_parallelism().map_or(1, |n| n.get()),
-        };
+        let mask = raw.mask.as_deref().map(read_mask).transpose()?;
+        let threads = parse_threads(raw.threads.as_deref())?;
         Ok(Self {
             design: raw.design,
             grid: GridRequest::from_args(&raw.grid, 50.0)?,
@@ -95,6 +71,111 @@ impl SpreadOptions {
     }
 }
 
+/// Validated options of `fit --rank-by yield`.
+#[derive(Debug, Clone)]
+pub struct YieldRankOptions {
+    /// The mask.
+    pub mask: SpecMask,
+    /// The run (the design's own tolerances apply; these kind defaults fill the gaps).
+    pub run: ToleranceOptions,
+    /// Threads to use.
+    pub threads: usize,
+    /// How many alternatives to keep after re-ranking.
+    pub keep: usize,
+}
+
+impl YieldRankOptions {
+    /// Validates the yield flags of `fit` and reads the mask.
+    pub fn from_flags(
+        mask: Option<&std::path::Path>,
+        trials: &str,
+        seed: &str,
+        distribution: &str,
+        threads: Option<&str>,
+    ) -> Result<Self> {
+        let Some(path) = mask else {
+            bail!("--rank-by yield needs a spec mask to count the yield against: add --mask FILE (see examples/*.mask.json)");
+        };
+        let trials = whole("--trials", trials, 1.0, bandwright::tolerance::MAX_TRIALS as f64)?;
+        Ok(Self {
+            mask: read_mask(path)?,
+            run: ToleranceOptions {
+                trials,
+                seed: parse_seed(seed)?,
+                distribution: parse_distribution(distribution)?,
+                by_kind: KindTolerances { resistor: 0.01, capacitor: 0.05, inductor: 0.10 },
+                by_part: Vec::new(),
+                band: 0.9,
+                corners: false,
+                pole_spread: false,
+            },
+            threads: parse_threads(threads)?,
+            keep: usize::MAX,
+        })
+    }
+
+    /// The same options, keeping the best `keep` alternatives after re-ranking.
+    pub fn keeping(self, keep: usize) -> Self {
+        Self { keep, ..self }
+    }
+
+    /// Re-ranks a fit by yield against the mask, on every thread asked for, and keeps the best.
+    pub fn rank(&self, fit: &bandwright::fit::FitResult) -> Result<bandwright::yield_rank::YieldRankedFit> {
+        let mut ranked = bandwright::yield_rank::rank_by_yield(fit, &self.mask, &self.run, |plan| {
+            run_threaded(plan, plan.options().trials, self.threads)
+        })?;
+        ranked.fit.alternatives.truncate(self.keep);
+        ranked.yields.truncate(self.keep);
+        Ok(ranked)
+    }
+}
+
+fn read_mask(path: &std::path::Path) -> Result<SpecMask> {
+    let text =
+        std::fs::read_to_string(path).with_context(|| format!("--mask: cannot read mask file {}", path.display()))?;
+    let mask: SpecMask = serde_json::from_str(&text)
+        .with_context(|| format!("--mask {}: not a spec mask (see examples/*.mask.json)", path.display()))?;
+    mask.validate().with_context(|| format!("--mask {}", path.display()))?;
+    Ok(mask)
+}
+
+fn parse_seed(text: &str) -> Result<u64> {
+    text.trim().parse::<u64>().map_err(|_| anyhow::anyhow!("--seed {text}: give a whole number from 0 to {}", u64::MAX))
+}
+
+fn parse_distribution(text: &str) -> Result<Distribution> {
+    Ok(match text.trim().to_ascii_lowercase().as_str() {
+        "uniform" => Distribution::Uniform,
+        "normal" => Distribution::Normal,
+        other => {
+            bail!("--distribution {other}: use uniform (equally likely within ±tolerance) or normal (tolerance = 3σ)")
+        }
+    })
+}
+
+fn parse_threads(text: Option<&str>) -> Result<usize> {
+    match text {
+        Some(text) => whole("--threads", text, 1.0, 256.0),
+        None => Ok(std::thread::available_parallelism().map_or(1, |n| n.get())),
+    }
+}
+
+/// Runs trials `0..trials` of `plan` split over `threads` threads (each trial depends only on the
+/// seed and its index, so the result does not depend on the split).
+pub fn run_threaded(plan: &TolerancePlan, trials: usize, threads: usize) -> Vec<TrialBatch> {
+    let threads = threads.clamp(1, trials.max(1));
+    let chunk = trials.div_ceil(threads);
+    std::thread::scope(|scope| {
+        let handles: Vec<_> = (0..threads)
+            .map(|t| {
+                let range = (t * chunk).min(trials)..((t + 1) * chunk).min(trials);
+                scope.spawn(move || plan.run_trials(range))
+            })
+            .collect();
+        handles.into_iter().map(|h| h.join().expect("a trial thread does not panic")).collect()
+    })
+}
+
 /// The result of a run: the report and the mask yield if a mask was given.
 pub struct SpreadRun {
     /// The design's name.
@@ -111,19 +192,7 @@ pub fn run(design: &bandwright::Design, options: &SpreadOptions) -> Result<Sprea
     let (circuit, _) = design.to_circuit()?;
     let grid = options.grid.grid_for(&circuit)?;
     let plan = TolerancePlan::for_design(design, &grid, &options.run)?;
-    let trials = options.run.trials;
-    let threads = options.threads.clamp(1, trials.max(1));
-    let chunk = trials.div_ceil(threads);
-    let mut batches: Vec<TrialBatch> = std::thread::scope(|scope| {
-        let handles: Vec<_> = (0..threads)
-            .map(|t| {
-                let range = (t * chunk).min(trials)..((t + 1) * chunk).min(trials);
-                let plan = &plan;
-                scope.spawn(move || plan.run_trials(range))
-            })
-            .collect();
-        handles.into_iter().map(|h| h.join().expect("a trial thread does not panic")).collect()
-    });
+    let mut batches = run_threaded(&plan, options.run.trials, options.threads);
     if options.run.corners {
         batches.push(plan.run_corners());
     }

@@ -195,3 +195,47 @@ fn fit_makes_active_cascades_with_standard_parts() {
         "low-pass and high-pass",
     );
 }
+
+#[test]
+fn fit_ranks_alternatives_by_yield_against_a_mask() {
+    let mask = example("sensor-aa-rc-ladder-3rd.mask.json");
+    let fit = [
+        "fit",
+        "--topology",
+        "rc",
+        "--order",
+        "3",
+        "--alignment",
+        "critical",
+        "--cutoff",
+        "1k",
+        "--source",
+        "100",
+        "--load",
+        "1M",
+        "--resistors",
+        "E24",
+        "--capacitors",
+        "E12",
+        "--alternatives",
+        "4",
+    ];
+    let with = |extra: &[&str]| json(&[&fit[..], extra, &["--format", "json"]].concat());
+    let ranked = with(&["--rank-by", "yield", "--mask", &mask, "--trials", "300", "--seed", "5"]);
+    let alternatives = ranked["alternatives"].as_array().unwrap();
+    assert_eq!(alternatives.len(), 4);
+    assert_eq!(ranked["yield_run"]["seed"], 5);
+    let passed: Vec<u64> = alternatives.iter().map(|a| a["yield"]["mask_yield"]["passed"].as_u64().unwrap()).collect();
+    assert!(passed.windows(2).all(|w| w[0] >= w[1]), "{passed:?}");
+    assert!(alternatives.iter().all(|a| a["yield"]["mask_yield"]["trials"] == 300));
+    assert!(ranked["objective"].as_str().unwrap().starts_with("yield against the spec mask"));
+    // The same seed gives the same ranking.
+    let again = with(&["--rank-by", "yield", "--mask", &mask, "--trials", "300", "--seed", "5"]);
+    assert_eq!(again, ranked);
+    // The nominal ranking carries no yield.
+    let nominal = with(&[]);
+    assert!(nominal["alternatives"][0].get("yield").is_none());
+    rejected(&[&fit[..], &["--rank-by", "yield"]].concat(), "needs a spec mask");
+    rejected(&[&fit[..], &["--mask", &mask]].concat(), "only with --rank-by yield");
+    rejected(&[&fit[..], &["--rank-by", "yield", "--mask", &mask, "--trials", "0"]].concat(), "--trials");
+}

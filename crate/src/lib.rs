@@ -22,7 +22,7 @@
 //! the safety text every adapter shows. Synthesis: [`synthesis`] → [`eseries`] → [`prototype`] →
 //! [`transform`] → [`ladder`] → [`fit`] → [`request`] (the requirement as typed); [`active`] →
 //! [`sallen_key`], [`multiple_feedback`] (op-amp RC sections and their cascades); [`mask`] (spec
-//! masks and minimum orders); [`tolerance`] spreads real parts; [`noise`] (resistor thermal
+//! masks and minimum orders); [`tolerance`] spreads real parts and [`yield_rank`] ranks a fit by yield; [`noise`] (resistor thermal
 //! noise at the output) → [`adc`] (the anti-aliasing front end); [`share`] packs a design into a
 //! link. Loudspeaker crossovers: [`driver`] (loads and acoustic data) → [`crossover`] (branches,
 //! compensation, summed response) → [`stress`] (part ratings and the parts list); [`crossover_file`]
@@ -76,6 +76,7 @@ pub mod mask;
 // Real parts: tolerance bands, solved fast on ladders by series–parallel reduction.
 pub mod reduction;
 pub mod tolerance;
+pub mod yield_rank;
 
 // Sharing a design as text.
 pub mod share;
