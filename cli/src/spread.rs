@@ -94,7 +94,9 @@ impl YieldRankOptions {
         threads: Option<&str>,
     ) -> Result<Self> {
         let Some(path) = mask else {
-            bail!("--rank-by yield needs a spec mask to count the yield against: add --mask FILE (see examples/*.mask.json)");
+            bail!(
+                "--rank-by yield needs a spec mask to count the yield against: add --mask FILE (see examples/masks/)"
+            );
         };
         let trials = whole("--trials", trials, 1.0, bandwright::tolerance::MAX_TRIALS as f64)?;
         Ok(Self {
@@ -134,7 +136,7 @@ fn read_mask(path: &std::path::Path) -> Result<SpecMask> {
     let text =
         std::fs::read_to_string(path).with_context(|| format!("--mask: cannot read mask file {}", path.display()))?;
     let mask: SpecMask = serde_json::from_str(&text)
-        .with_context(|| format!("--mask {}: not a spec mask (see examples/*.mask.json)", path.display()))?;
+        .with_context(|| format!("--mask {}: not a spec mask (see examples/masks/)", path.display()))?;
     mask.validate().with_context(|| format!("--mask {}", path.display()))?;
     Ok(mask)
 }

@@ -198,7 +198,7 @@ fn fit_makes_active_cascades_with_standard_parts() {
 
 #[test]
 fn fit_ranks_alternatives_by_yield_against_a_mask() {
-    let mask = example("sensor-aa-rc-ladder-3rd.mask.json");
+    let mask = example("masks/sensor-aa-rc-ladder-3rd.mask.json");
     let fit = [
         "fit",
         "--topology",
