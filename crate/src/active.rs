@@ -242,7 +242,9 @@ pub struct ActiveOptions {
     /// Load capacitance in parallel at the output in F (`None` = none).
     pub load_farads: Option<f64>,
     /// The driving source's resistance in Ω (0 = ideal). The first section sees it in series
-    /// with its input; the fit does not compensate it, and the measured deviation includes it.
+    /// with its input. A low-pass fit absorbs it into the first section's input resistor R1 (chosen
+    /// for R1 + Rs); a high-pass section starts with a capacitor and cannot, so there the measured
+    /// deviation shows it.
     pub source_ohms: f64,
     /// A name for the design.
     pub name: String,
@@ -708,7 +710,10 @@ pub fn fit_cascade(
     let mut chosen = Vec::with_capacity(targets.len());
     for (idx, target) in targets.iter().enumerate() {
         let best = fit_section(spec, options, parts, target, idx + 1)?;
-        let ideal_values = ideal_of(&best, target, options.gain).unwrap_or(best);
+        // The ideal R1 of a first low-pass section is what remains after the source's resistance.
+        let absorbed = if idx == 0 && spec.response == ResponseType::LowPass { options.source_ohms } else { 0.0 };
+        let ideal_values =
+            ideal_of(&best, target, options.gain).map(|x| with_series_input(x, -absorbed)).unwrap_or(best);
         let fitted_parts = best
             .parts()
             .into_iter()
@@ -980,6 +985,26 @@ fn ideal_of(fitted: &ActiveSection, target: &SectionTarget, gain: f64) -> Option
     })
 }
 
+/// The section as driven through `series_ohms` more at its input resistor (low-pass sections, whose
+/// input part is R1); other sections are returned as they are.
+fn with_series_input(section: ActiveSection, series_ohms: f64) -> ActiveSection {
+    if series_ohms == 0.0 {
+        return section;
+    }
+    match section {
+        ActiveSection::FirstOrder(x) if x.response == ResponseType::LowPass => {
+            ActiveSection::FirstOrder(FirstOrderSection { r1: x.r1 + series_ohms, ..x })
+        }
+        ActiveSection::SallenKeyLowPass(x) => {
+            ActiveSection::SallenKeyLowPass(SallenKeyLowPass { r1: x.r1 + series_ohms, ..x })
+        }
+        ActiveSection::MultipleFeedbackLowPass(x) => {
+            ActiveSection::MultipleFeedbackLowPass(MultipleFeedbackLowPass { r1: x.r1 + series_ohms, ..x })
+        }
+        other => other,
+    }
+}
+
 /// The best standard-part realization of one section.
 fn fit_section(
     spec: &CascadeSpec,
@@ -1031,15 +1056,23 @@ fn fit_section(
         out
     };
     let centre = (r_low * r_high).sqrt();
+    // The first low-pass section's input resistor is in series with the source's resistance, so
+    // the source is absorbed there: R1 is chosen for R1 + Rs, and every candidate is judged with
+    // the source in place (exact: a Thevenin source's resistance adds to the series resistor).
+    // High-pass sections start with a capacitor and cannot absorb it; their measured deviation
+    // includes it.
+    let absorbed = if number == 1 && spec.response == ResponseType::LowPass { options.source_ohms } else { 0.0 };
+    let r1_for = |ideal_r1: f64| -> Option<f64> { (ideal_r1 - absorbed > 0.0).then_some(ideal_r1 - absorbed) };
     let mut best: Option<(f64, f64, ActiveSection)> = None;
     let mut consider = |section: ActiveSection, resistors: &[f64]| {
-        let f0 = section.f0_hz();
+        let driven = with_series_input(section, absorbed);
+        let f0 = driven.f0_hz();
         let e_f0 = (f0 - target.f0_hz) / target.f0_hz;
-        let e_q = match (section.q(), target.q) {
+        let e_q = match (driven.q(), target.q) {
             (Some(got), Some(want)) => (got - want) / want,
             _ => 0.0,
         };
-        let e_k = (section.gain().abs() - if section.gain() < 0.0 { k } else { 1.0 }) / k.max(1.0);
+        let e_k = (driven.gain().abs() - if driven.gain() < 0.0 { k } else { 1.0 }) / k.max(1.0);
         let error = (e_f0 * e_f0 + e_q * e_q + e_k * e_k).sqrt();
         let spread: f64 = resistors.iter().map(|r| (r / centre).ln().abs()).fold(0.0, f64::max);
         if !error.is_finite() {
@@ -1057,14 +1090,19 @@ fn fit_section(
     for &c in &capacitors {
         match (target.q, spec.topology, spec.response) {
             (None, _, response) => {
-                for r in neighbours(1.0 / (omega * c)) {
+                let ideal = 1.0 / (omega * c);
+                let Some(wanted) = (if response == ResponseType::LowPass { r1_for(ideal) } else { Some(ideal) }) else {
+                    continue;
+                };
+                for r in neighbours(wanted) {
                     consider(ActiveSection::FirstOrder(FirstOrderSection { response, r1: r, c1: c }), &[r]);
                 }
             }
             (Some(q), ActiveTopology::SallenKey, ResponseType::LowPass) => {
                 for c1 in at_or_above(c * SallenKeyLowPass::min_capacitor_ratio(q), RATIO_CHOICES) {
                     let Ok(ideal) = SallenKeyLowPass::design(target.f0_hz, q, c, c1 / c) else { continue };
-                    for r1 in neighbours(ideal.r1) {
+                    let Some(wanted) = r1_for(ideal.r1) else { continue };
+                    for r1 in neighbours(wanted) {
                         for r2 in neighbours(ideal.r2) {
                             let section = SallenKeyLowPass { r1, r2, c1, c2: c };
                             consider(ActiveSection::SallenKeyLowPass(section), &[r1, r2]);
@@ -1084,7 +1122,8 @@ fn fit_section(
             (Some(q), ActiveTopology::MultipleFeedback, ResponseType::LowPass) => {
                 for c1 in at_or_above(c * MultipleFeedbackLowPass::min_capacitor_ratio(q, k), RATIO_CHOICES) {
                     let Ok(ideal) = MultipleFeedbackLowPass::design(target.f0_hz, q, k, c, c1 / c) else { continue };
-                    for r1 in neighbours(ideal.r1) {
+                    let Some(wanted) = r1_for(ideal.r1) else { continue };
+                    for r1 in neighbours(wanted) {
                         for r2 in neighbours(ideal.r2) {
                             for r3 in neighbours(ideal.r3) {
                                 let section = MultipleFeedbackLowPass { r1, r2, r3, c1, c2: c };
@@ -1306,6 +1345,49 @@ mod tests {
 
     fn spec(topology: ActiveTopology, alignment: Alignment, order: usize, response: ResponseType) -> CascadeSpec {
         CascadeSpec { topology, alignment, order, response, cutoff_hz: 1000.0 }
+    }
+
+    #[test]
+    fn a_low_pass_fit_absorbs_the_source_resistance_into_the_first_input_resistor() {
+        let fit_with = |topology: &str, response: &str, source: &str| {
+            let request = crate::request::FitRequest {
+                response: Some(response.into()),
+                cutoff: Some("1k".into()),
+                order: Some("3".into()),
+                topology: Some(topology.into()),
+                source: Some(source.into()),
+                ..Default::default()
+            };
+            let resolved = request.resolve().unwrap();
+            crate::fit::fit(&resolved.requirement, resolved.topology, &resolved.options).unwrap().alternatives.remove(0)
+        };
+        for topology in ["sallen-key", "mfb"] {
+            let ideal_source = fit_with(topology, "lowpass", "0");
+            let driven = fit_with(topology, "lowpass", "2k");
+            // The deviation is measured on the whole circuit with the 2 kΩ source in place; without
+            // the absorption a 2 kΩ source moved a unity-gain Sallen-Key cutoff by about 8 %.
+            assert!(driven.max_response_deviation_db < 0.1, "{topology}: {}", driven.max_response_deviation_db);
+            assert!(
+                driven.max_response_deviation_db < 2.0 * ideal_source.max_response_deviation_db + 0.02,
+                "{topology}: {} vs {}",
+                driven.max_response_deviation_db,
+                ideal_source.max_response_deviation_db
+            );
+            // The first section's R1 is chosen for R1 + Rs: its ideal value is the exact one less 2 kΩ.
+            let r1 = driven.parts.iter().find(|p| p.reference == "R11").unwrap();
+            let c = |name: &str| driven.parts.iter().find(|p| p.reference == name).map(|p| p.choice.value);
+            assert!(r1.ideal_value > 0.0 && r1.deviation_pct.abs() < 3.0, "{topology}: {r1:?}");
+            if topology == "sallen-key" {
+                // The odd order's first section is first order: R·C = 1/(2π·f) of the real pole.
+                let (Some(c1), None) = (c("C11"), c("C12")) else { panic!("{:?}", driven.parts) };
+                let tau = (r1.choice.value + 2000.0) * c1;
+                let real_pole_hz = 1.0 / (TAU * tau);
+                assert!((real_pole_hz / 1000.0 - 1.0).abs() < 0.03, "{real_pole_hz}");
+            }
+        }
+        // A high-pass section starts with a capacitor: the source is not absorbed, and it shows.
+        let high = fit_with("sallen-key", "highpass", "2k");
+        assert!(high.max_response_deviation_db.is_finite());
     }
 
     #[test]
