@@ -198,7 +198,7 @@ impl FitCommand {
         let wanted = options.alternatives;
         if yield_rank.is_some() {
             // Re-rank a wider field of candidates, then keep as many as were asked for.
-            options.alternatives = (wanted * 3).clamp(10, 60);
+            options.alternatives = bandwright::yield_rank::candidates_for(wanted);
         }
         Ok(Self {
             requirement: resolved.requirement,

@@ -123,12 +123,9 @@ impl YieldRankOptions {
 
     /// Re-ranks a fit by yield against the mask, on every thread asked for, and keeps the best.
     pub fn rank(&self, fit: &bandwright::fit::FitResult) -> Result<bandwright::yield_rank::YieldRankedFit> {
-        let mut ranked = bandwright::yield_rank::rank_by_yield(fit, &self.mask, &self.run, |plan| {
+        Ok(bandwright::yield_rank::rank_by_yield(fit, &self.mask, &self.run, self.keep, |plan| {
             run_threaded(plan, plan.options().trials, self.threads)
-        })?;
-        ranked.fit.alternatives.truncate(self.keep);
-        ranked.yields.truncate(self.keep);
-        Ok(ranked)
+        })?)
     }
 }
 

@@ -138,8 +138,15 @@ pub fn mask_grid(mask: &SpecMask) -> Result<FrequencyGrid, YieldRankError> {
     FrequencyGrid::list(kept).map_err(YieldRankError::Grid)
 }
 
+/// How many candidates to fit when `wanted` alternatives are to be kept after ranking by yield:
+/// three times as many, from 10 to 60, so that the ranking has a wider field than the nominal one.
+pub fn candidates_for(wanted: usize) -> usize {
+    (wanted.saturating_mul(3)).clamp(10, 60)
+}
+
 /// Runs `options.trials` seeded trials of every alternative of `fit` against `mask` and reorders
-/// the alternatives by the fraction that pass, highest first (ties keep the fit's order). Corners
+/// the alternatives by the fraction that pass, highest first (ties keep the fit's order), and keeps
+/// the first `keep` (see [`candidates_for`]). Corners
 /// and pole spreads are not part of the ranking and are switched off. `run` runs the Monte Carlo
 /// trials of a plan (all of `0..plan.options().trials`, split any way; see
 /// [`TolerancePlan::run_trials`]).
@@ -150,6 +157,7 @@ pub fn rank_by_yield<R>(
     fit: &FitResult,
     mask: &SpecMask,
     options: &ToleranceOptions,
+    keep: usize,
     run: R,
 ) -> Result<YieldRankedFit, YieldRankError>
 where
@@ -172,6 +180,7 @@ where
     }
     // Stable: equal yields keep the fit's order, so nominal error breaks ties.
     scored.sort_by_key(|s| std::cmp::Reverse(s.mask_yield.passed));
+    scored.truncate(keep);
     let mut ranked = fit.clone();
     ranked.alternatives = scored.iter().map(|s| fit.alternatives[s.nominal_rank].clone()).collect();
     ranked.objective = format!(
@@ -256,6 +265,13 @@ mod tests {
     }
 
     #[test]
+    fn the_field_is_widened_within_limits() {
+        assert_eq!(candidates_for(1), 10);
+        assert_eq!(candidates_for(5), 15);
+        assert_eq!(candidates_for(100), 60);
+    }
+
+    #[test]
     fn the_grid_holds_every_edge_and_spans_two_decades_beyond() {
         let grid = mask_grid(&lowpass_mask(1000.0, 3.0, 7000.0, 16.0)).unwrap();
         let f = grid.frequencies();
@@ -272,7 +288,7 @@ mod tests {
         // 2.3 dB at 800 Hz needs fc ≥ 958 Hz, at least 12 dB at 4 kHz needs fc ≤ 1038 Hz. So
         // only corners within about −4 … +4 % of 1 kHz pass, and 10 % capacitors often miss.
         let mask = tight_mask();
-        let ranked = rank_by_yield(&fit, &mask, &options(400), all);
+        let ranked = rank_by_yield(&fit, &mask, &options(400), usize::MAX, all);
         let ranked = match ranked {
             Ok(r) => r,
             Err(error) => panic!("{error}"),
@@ -305,10 +321,12 @@ mod tests {
     fn the_same_seed_gives_the_same_ranking_and_a_split_run_agrees() {
         let fit = rc_fit();
         let mask = tight_mask();
-        let one = rank_by_yield(&fit, &mask, &options(300), all).unwrap();
-        let split =
-            rank_by_yield(&fit, &mask, &options(300), |plan| vec![plan.run_trials(0..100), plan.run_trials(100..300)])
-                .unwrap();
+        let one = rank_by_yield(&fit, &mask, &options(300), 5, all).unwrap();
+        assert_eq!((one.yields.len(), one.fit.alternatives.len()), (5, 5));
+        let split = rank_by_yield(&fit, &mask, &options(300), 5, |plan| {
+            vec![plan.run_trials(0..100), plan.run_trials(100..300)]
+        })
+        .unwrap();
         assert_eq!(one, split);
     }
 
@@ -316,14 +334,14 @@ mod tests {
     fn bad_requests_are_named() {
         let fit = rc_fit();
         let mask = lowpass_mask(1000.0, 3.0, 7000.0, 16.0);
-        assert_eq!(rank_by_yield(&fit, &mask, &options(0), all).unwrap_err(), YieldRankError::NoTrials);
+        assert_eq!(rank_by_yield(&fit, &mask, &options(0), 5, all).unwrap_err(), YieldRankError::NoTrials);
         let bad = lowpass_mask(1000.0, 3.0, 500.0, 16.0);
-        let error = rank_by_yield(&fit, &bad, &options(10), all).unwrap_err();
+        let error = rank_by_yield(&fit, &bad, &options(10), 5, all).unwrap_err();
         assert!(matches!(error, YieldRankError::Mask(_)), "{error:?}");
         assert!(error.to_string().starts_with("the spec mask: "), "{error}");
         let mut negative = options(10);
         negative.by_kind.capacitor = -0.05;
-        let error = rank_by_yield(&fit, &mask, &negative, all).unwrap_err();
+        let error = rank_by_yield(&fit, &mask, &negative, 5, all).unwrap_err();
         assert!(matches!(error, YieldRankError::Tolerance { alternative: 1, .. }), "{error:?}");
     }
 }

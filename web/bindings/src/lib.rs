@@ -8,7 +8,7 @@
 //!
 //! Exports (the contract with web/app.js): `version`, `demo_design`, `demo_request`, `fit`,
 //! `check_design`, `parse_value`, `format_value`, `step_value`, `share_encode`, `share_decode`,
-//! `parts_csv`, `cautions`, `schematic` and the class `Session`.
+//! `parts_csv`, `cautions`, `schematic`, `fit_by_yield` and the class `Session`.
 //!
 //! Everything but the canvas is plain Rust and unit-tested natively (`cargo test -p
 //! bandwright-web`); the `#[wasm_bindgen]` wrappers below only convert.
@@ -28,6 +28,8 @@ pub mod session;
 pub mod chart;
 
 pub mod canvas;
+
+pub mod yield_fit;
 
 use error::WebError;
 use plotters::prelude::IntoDrawingArea;
@@ -59,6 +61,17 @@ pub fn demo_request() -> String {
 #[wasm_bindgen]
 pub fn fit(request_json: &str) -> Result<String, JsError> {
     fit_json(request_json).map_err(js)
+}
+
+/// Fits a requirement, then ranks a widened field of candidates by their yield against a spec
+/// mask over a seeded Monte Carlo run, and returns the ranked fit as JSON (the fit's fields, and
+/// `yield` on each alternative and `yield_run`). `run_json` is `{trials, seed, distribution}`.
+///
+/// Errors about a field start with `field <name>: ` (`yield_trials`, `yield_seed`,
+/// `yield_distribution`, or a field of the request).
+#[wasm_bindgen]
+pub fn fit_by_yield(request_json: &str, mask_json: &str, run_json: &str) -> Result<String, JsError> {
+    yield_fit::fit_by_yield_json(request_json, mask_json, run_json).map_err(js)
 }
 
 /// Reads and validates a design file; returns it normalised (SI numbers, pretty JSON).
