@@ -58,6 +58,7 @@ function start() {
 
   wireRequirement();
   wireParts();
+  wireYield();
   wirePlot();
   wireGrid();
   wireKeepAndShare();
@@ -567,12 +568,15 @@ function renderShortlist() {
   const body = $("short-body");
   body.replaceChildren();
   const fit = state.fit;
+  updateYieldControls();
   $("short").hidden = !fit;
   $("short-empty").hidden = Boolean(fit);
   $("short-objective").textContent = fit ? fit.objective || "" : "";
   $("short-sub").textContent = fit ? `· best first, ${fit.alternatives.length}` : "";
   if (!fit) return;
   const secondOrder = fit.alternatives.some((alt) => alt.f0_error_pct !== null && alt.f0_error_pct !== undefined);
+  const ranked = fit.alternatives.some((alt) => alt.yield);
+  $("short-yield-col").hidden = !ranked;
   $("short-err-a").textContent = secondOrder ? "f0 err" : "cutoff err";
   $("short-err-b").textContent = "Q err";
   fit.alternatives.forEach((alt, index) => {
@@ -592,6 +596,7 @@ function renderShortlist() {
     parts.className = "part-list";
     parts.textContent = alt.parts.map(describeFittedPart).join(", ");
     row.append(use, parts, numberCell(secondOrder ? alt.f0_error_pct : alt.cutoff_error_pct, "%"), numberCell(alt.q_error_pct, "%"), numberCell(alt.max_response_deviation_db, "dB"));
+    if (ranked) row.append(yieldCell(alt.yield));
     radio.addEventListener("change", () => chooseAlternative(index));
     row.addEventListener("click", (event) => {
       if (event.target !== radio && event.target.tagName !== "LABEL") {
@@ -602,6 +607,81 @@ function renderShortlist() {
     body.append(row);
   });
   markChosen();
+}
+
+/** A yield cell: the share of trials inside the mask, and the counts in its title. */
+function yieldCell(entry) {
+  const cell = document.createElement("td");
+  cell.className = "num";
+  const result = entry && entry.mask_yield;
+  if (!result || !(result.trials > 0)) {
+    cell.textContent = "—";
+    return cell;
+  }
+  cell.textContent = `${((100 * result.passed) / result.trials).toFixed(1)} %`;
+  cell.title = `${result.passed} of ${result.trials} trials inside the mask; #${entry.nominal_rank + 1} by nominal error`;
+  return cell;
+}
+
+// ---------------------------------------------------------------- ranking by yield
+
+/** The spec mask to rank against (set by the mask editor), or null. */
+function currentMask() {
+  return typeof state.mask === "undefined" || !state.mask ? null : state.mask;
+}
+
+/** Shows the yield ranking when there is a spec mask to rank against. */
+function updateYieldControls() {
+  $("yield-form").hidden = !currentMask();
+}
+
+function wireYield() {
+  $("yield-form").addEventListener("submit", (event) => {
+    event.preventDefault();
+    rankByYield();
+  });
+}
+
+let yieldBusy = false;
+/** Fits the requirement again over a wider field and ranks it by yield against the mask. */
+function rankByYield() {
+  const mask = currentMask();
+  if (yieldBusy || !mask) return;
+  const fields = [$("yield-trials"), $("yield-seed")];
+  for (const control of fields) clearFieldError(control);
+  clearAskErrors();
+  const run = { trials: $("yield-trials").value.trim(), seed: $("yield-seed").value.trim() };
+  const request = readRequest();
+  yieldBusy = true;
+  $("yield-go").disabled = true;
+  $("yield-status").textContent = `Ranking by yield (${run.trials || 200} trials per candidate)…`;
+  // Let the status paint before the run takes the thread.
+  setTimeout(() => {
+    try {
+      const result = normaliseFit(JSON.parse(api.fit_by_yield(JSON.stringify(request), JSON.stringify(mask), JSON.stringify(run))));
+      if (!result.alternatives || result.alternatives.length === 0) {
+        $("yield-status").textContent = "No alternative to rank: the fit found none within the stated ranges.";
+        return;
+      }
+      state.fit = result;
+      adopt(result.alternatives[0].design, { ideal: result.ideal_design, chosen: 0 });
+      renderShortlist();
+      const best = result.alternatives[0].yield.mask_yield;
+      $("yield-status").textContent = `Ranked by yield: the best keeps ${best.passed} of ${best.trials} trials inside the mask (seed ${result.yield_run.seed}).`;
+      notice("Ranked the shortlist by yield; the highest-yield alternative is in use.", true);
+    } catch (error) {
+      const message = errorText(error);
+      const { field, text } = splitFieldMessage(message);
+      const control = fields.find((c) => c.dataset.field === field);
+      $("yield-status").textContent = "";
+      if (control) setFieldError(control, text);
+      else if (field) showAskError(message);
+      else $("yield-status").textContent = `Cannot rank by yield: ${message}. The working design is unchanged.`;
+    } finally {
+      yieldBusy = false;
+      $("yield-go").disabled = false;
+    }
+  }, 30);
 }
 
 function describeFittedPart(part) {
