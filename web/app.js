@@ -62,6 +62,7 @@ function start() {
   wirePlot();
   wireGrid();
   wireKeepAndShare();
+  wireSpread();
 
   const restored = restoreWorkspace();
   let link = null;
@@ -286,6 +287,7 @@ function renderDesign() {
   renderSchematic();
   renderAssumptions();
   markChosen();
+  renderSpreadParts();
 }
 
 // ---------------------------------------------------------------- the requirement sentence
@@ -1091,6 +1093,7 @@ function frame() {
     performance.measure("bw:redraw", { start: drawStart, end });
   }
   updateReadout();
+  updateSpreadState();
   if (wantSchematic) renderSchematicSoon();
   if (wantReport) refreshReportSoon();
 }
@@ -1592,6 +1595,7 @@ function refreshReport() {
     item.textContent = line;
     return item;
   }));
+  renderSpreadReport();
   try {
     session.draw($("r-plot"), "light");
     // Draw the screen plot again, so that the readout maps pointer pixels on it.
@@ -1621,6 +1625,442 @@ function sentenceText() {
   };
   for (const line of $("ask-form").querySelectorAll(".line")) walk(line);
   return parts.join("").replace(/\s+/g, " ").replace(/\s+([,.;])/g, "$1").trim();
+}
+
+// ---------------------------------------------------------------- tolerance spread
+// Monte Carlo trials and worst-case corners of the working design (the core's tolerance
+// analysis through TolerancePlanner). The trials are split across Web Workers built from
+// the inline worker source (the glue and web/worker.js) and given the already compiled wasm
+// module; each worker posts its batches back as transferable Float64Arrays, the main thread's
+// planner merges and summarises them, and the Session shades the bands. Plotting stays here.
+// Without workers the trials run here in short slices, and the status says so.
+
+/** The most workers one run uses. */
+const SPREAD_MAX_WORKERS = 8;
+/** Trials per job handed to a worker (or per slice on the main thread), at most. */
+const SPREAD_MAX_CHUNK = 200;
+/** Trials per slice when the main thread runs them (short, so the page stays live). */
+const SPREAD_MAIN_SLICE = 20;
+/** How long a worker may take to start before the page gives up on workers, in ms. */
+const SPREAD_START_MS = 10_000;
+
+const spread = {
+  pool: null, // started workers, or null
+  poolError: null, // why workers could not start, once that is known
+  run: null, // the run in progress: {planner, cancelled, cancel, done, total}
+  parts: [], // the plan's description of the varied parts (defaults, no overrides)
+  overrides: {}, // per-part tolerance in percent, by ref, as set here
+  summary: null, // the last summary shown (parsed JSON)
+  partsKey: "", // which design the parts list was made for
+};
+
+function wireSpread() {
+  $("spread-form").addEventListener("submit", (event) => {
+    event.preventDefault();
+    runSpread();
+  });
+  $("spread-form").addEventListener("input", (event) => {
+    if (event.target.matches("input[type=text]")) clearFieldError(event.target);
+  });
+  $("spread-parts-body").addEventListener("change", onSpreadToleranceChange);
+  $("spread-cancel").addEventListener("click", cancelSpread);
+}
+
+/** Lists the varied parts with their tolerance and where it came from (from the core's plan). */
+function renderSpreadParts() {
+  if (!session || !state.design) return;
+  const key = JSON.stringify([state.design.elements.map((e) => [e.ref, e.kind]), state.design.tolerances || {}]);
+  if (key === spread.partsKey) return;
+  spread.partsKey = key;
+  const body = $("spread-parts-body");
+  body.replaceChildren();
+  $("spread-msg").hidden = true;
+  try {
+    const probe = new api.TolerancePlanner(JSON.stringify(state.design), JSON.stringify({ trials: "1", f_hz: Array.from(session.frequencies()) }));
+    spread.parts = JSON.parse(probe.describe()).parts;
+    probe.free();
+  } catch (error) {
+    spread.parts = [];
+    showSpreadMessage(errorText(error));
+  }
+  const refs = new Set(spread.parts.map((part) => part.ref));
+  for (const ref of Object.keys(spread.overrides)) if (!refs.has(ref)) delete spread.overrides[ref];
+  spread.parts.forEach((part, index) => {
+    const row = document.createElement("tr");
+    const head = document.createElement("th");
+    head.scope = "row";
+    head.textContent = part.ref;
+    const kind = document.createElement("span");
+    kind.className = "kind";
+    kind.textContent = part.kind;
+    head.append(kind);
+    const cell = document.createElement("td");
+    const label = document.createElement("label");
+    label.className = "vh";
+    label.htmlFor = `spread-tol-${index}`;
+    label.textContent = `Tolerance of ${part.ref} in percent`;
+    const input = document.createElement("input");
+    input.type = "text";
+    input.id = `spread-tol-${index}`;
+    input.dataset.ref = part.ref;
+    input.autocomplete = "off";
+    input.spellcheck = false;
+    input.size = 5;
+    const given = spread.overrides[part.ref];
+    input.value = String(given ?? part.tolerance_pct);
+    const unit = document.createElement("span");
+    unit.className = "unit";
+    unit.textContent = "%";
+    cell.append(label, input, unit);
+    const origin = document.createElement("td");
+    origin.className = "origin";
+    origin.textContent = given === undefined ? part.origin_text : "set here";
+    row.append(head, cell, origin);
+    body.append(row);
+  });
+}
+
+/** Reads one per-part tolerance through the core; an empty field goes back to the default. */
+function onSpreadToleranceChange(event) {
+  const input = event.target;
+  if (!input.matches("input[data-ref]")) return;
+  const part = spread.parts.find((p) => p.ref === input.dataset.ref);
+  const origin = input.closest("tr").querySelector(".origin");
+  if (input.value.trim() === "") {
+    delete spread.overrides[part.ref];
+    input.value = String(part.tolerance_pct);
+    origin.textContent = part.origin_text;
+    clearFieldError(input);
+    return;
+  }
+  try {
+    const pct = api.parse_tolerance(input.value);
+    clearFieldError(input);
+    if (pct === part.tolerance_pct && spread.overrides[part.ref] === undefined) return;
+    spread.overrides[part.ref] = pct;
+    origin.textContent = "set here";
+  } catch (error) {
+    setFieldError(input, `${part.ref}: ${errorText(error)}`);
+  }
+}
+
+function showSpreadMessage(text) {
+  const box = $("spread-msg");
+  box.textContent = text;
+  box.hidden = text === null;
+}
+
+/** The options of a run as typed; the core reads and checks them. */
+function spreadOptions() {
+  return {
+    trials: $("spread-trials").value,
+    seed: $("spread-seed").value,
+    distribution: $("spread-distribution").value,
+    band: $("spread-band").value,
+    corners: $("spread-corners").checked,
+    tolerances: { ...spread.overrides },
+    f_hz: Array.from(session.frequencies()),
+  };
+}
+
+const SPREAD_FIELDS = { trials: "spread-trials", seed: "spread-seed", distribution: "spread-distribution", band: "spread-band" };
+
+async function runSpread() {
+  if (spread.run || !session) return;
+  showSpreadMessage(null);
+  for (const id of Object.values(SPREAD_FIELDS)) clearFieldError($(id));
+  const invalid = $("spread-parts-body").querySelector("[aria-invalid=true]");
+  if (invalid) {
+    showSpreadMessage(`Fix the tolerance of ${invalid.dataset.ref} first.`);
+    invalid.focus();
+    return;
+  }
+  const designJson = JSON.stringify(state.design);
+  const optionsJson = JSON.stringify(spreadOptions());
+  let planner;
+  try {
+    planner = new api.TolerancePlanner(designJson, optionsJson);
+  } catch (error) {
+    const { field, text } = splitFieldMessage(errorText(error));
+    if (field && SPREAD_FIELDS[field]) {
+      setFieldError($(SPREAD_FIELDS[field]), text);
+      $(SPREAD_FIELDS[field]).focus();
+    } else {
+      showSpreadMessage(`The spread cannot run: ${text}`);
+    }
+    return;
+  }
+  const plan = JSON.parse(planner.describe());
+  const run = { planner, cancelled: false, cancel: null, done: 0, total: plan.trials, engine: "" };
+  spread.run = run;
+  setSpreadRunning(true);
+  const started = performance.now();
+  try {
+    const pool = await startSpreadWorkers();
+    if (run.cancelled) return;
+    if (pool) {
+      run.engine = `${pool.length} worker${pool.length === 1 ? "" : "s"}`;
+      showSpreadEngine(pool.length, run.engine);
+      const size = Math.min(SPREAD_MAX_CHUNK, Math.ceil(plan.trials / (pool.length * 6)));
+      await runOnWorkers(run, pool, spreadJobs(plan, size), designJson, optionsJson);
+    } else {
+      run.engine = `main thread (workers could not start: ${spread.poolError})`;
+      showSpreadEngine(0, run.engine);
+      await runOnMainThread(run, spreadJobs(plan, SPREAD_MAIN_SLICE));
+    }
+    if (run.cancelled) return;
+    finishSpread(run, performance.now() - started);
+  } catch (error) {
+    showSpreadMessage(`The spread stopped: ${errorText(error)}`);
+    $("spread-status").textContent = "";
+  } finally {
+    // A cancelled run may end after the next one started; it then leaves that one alone.
+    if (spread.run === run) {
+      spread.run = null;
+      setSpreadRunning(false);
+    }
+    planner.free();
+  }
+}
+
+/** Trial ranges of `size` (and the corners) as jobs; several per worker, so that progress moves. */
+function spreadJobs(plan, size) {
+  size = Math.max(1, size);
+  const jobs = [];
+  if (plan.corners) jobs.push({ kind: "corners", id: 0 });
+  for (let first = 0; first < plan.trials; first += size) {
+    jobs.push({ kind: "trials", id: jobs.length, first, end: Math.min(plan.trials, first + size) });
+  }
+  return jobs;
+}
+
+/** Starts the workers once (they stay for later runs), or gives the reason they cannot. */
+async function startSpreadWorkers() {
+  if (spread.pool) return spread.pool;
+  if (spread.poolError) return null;
+  const workers = [];
+  let url = null;
+  try {
+    if (typeof Worker !== "function") throw new Error("this browser has no Web Workers");
+    const source = $("bandwright-worker-source");
+    const glue = glueSource();
+    if (!source || glue === null) throw new Error("this build has no worker script");
+    const module = typeof bandwrightWasmModule === "undefined" ? null : bandwrightWasmModule;
+    if (!module) throw new Error("the compiled module is not available");
+    url = URL.createObjectURL(new Blob([glue, "\n", source.textContent], { type: "text/javascript" }));
+    const count = Math.max(1, Math.min(navigator.hardwareConcurrency || 2, SPREAD_MAX_WORKERS));
+    // Classic workers: a module worker from a blob: URL does not load in a page opened from
+    // file:// (an opaque origin), so the build writes the glue without export keywords.
+    for (let i = 0; i < count; i += 1) workers.push(new Worker(url, { name: `bandwright-spread-${i + 1}` }));
+    await Promise.all(workers.map((worker) => new Promise((resolve, reject) => {
+      const timer = setTimeout(() => reject(new Error(`a worker did not start within ${SPREAD_START_MS / 1000} s`)), SPREAD_START_MS);
+      worker.onmessage = (event) => {
+        clearTimeout(timer);
+        if (event.data.kind === "ready") resolve();
+        else reject(new Error(event.data.message || "a worker could not start"));
+      };
+      worker.onerror = (event) => {
+        clearTimeout(timer);
+        event.preventDefault();
+        reject(new Error(event.message || "a worker could not load its script"));
+      };
+      worker.postMessage({ kind: "start", module });
+    })));
+    spread.pool = workers;
+    return workers;
+  } catch (error) {
+    for (const worker of workers) worker.terminate();
+    spread.poolError = errorText(error);
+    return null;
+  } finally {
+    if (url) URL.revokeObjectURL(url);
+  }
+}
+
+/**
+ * The wasm-bindgen glue, read back from this page's own module script, where the build marks it
+ * (web/build/src/page.rs); the worker runs the same glue.
+ */
+function glueSource() {
+  const start = "// ---- wasm-bindgen glue (bandwright build) ----";
+  const end = "// ---- end of wasm-bindgen glue ----";
+  for (const script of document.querySelectorAll("script[type=module]")) {
+    const text = script.textContent;
+    const from = text.indexOf(start);
+    const to = text.indexOf(end);
+    if (from >= 0 && to > from) return text.slice(from + start.length, to);
+  }
+  return null;
+}
+
+/** Hands the jobs to the workers as each one comes free; resolves when all batches are in. */
+function runOnWorkers(run, pool, jobs, designJson, optionsJson) {
+  return new Promise((resolve, reject) => {
+    const queue = jobs.slice();
+    let active = 0;
+    const fail = (error) => {
+      stopSpreadWorkers();
+      reject(error);
+    };
+    run.cancel = () => {
+      stopSpreadWorkers();
+      resolve();
+    };
+    const next = (worker) => {
+      if (run.cancelled) return;
+      const job = queue.shift();
+      if (!job) {
+        if (active === 0) resolve();
+        return;
+      }
+      active += 1;
+      worker.postMessage(job.kind === "trials"
+        ? { kind: "trials", job: job.id, first: job.first, end: job.end }
+        : { kind: "corners", job: job.id });
+    };
+    for (const worker of pool) {
+      worker.onerror = (event) => {
+        event.preventDefault();
+        fail(new Error(event.message || "a worker failed"));
+      };
+      worker.onmessage = (event) => {
+        const message = event.data;
+        if (run.cancelled) return;
+        if (message.kind === "planned") {
+          next(worker);
+        } else if (message.kind === "batch") {
+          active -= 1;
+          try {
+            run.planner.add_batch(message.data);
+          } catch (error) {
+            fail(error);
+            return;
+          }
+          if (message.end !== undefined) run.done += message.end - message.first;
+          showSpreadProgress(run);
+          next(worker);
+        } else if (message.kind === "error") {
+          fail(new Error(message.message));
+        }
+      };
+      worker.postMessage({ kind: "plan", design: designJson, options: optionsJson });
+    }
+  });
+}
+
+/** The fallback: the same jobs here, one short slice per task, so that the page stays live. */
+async function runOnMainThread(run, jobs) {
+  run.cancel = () => {};
+  for (const job of jobs) {
+    if (run.cancelled) return;
+    const data = job.kind === "trials" ? run.planner.run_trials(job.first, job.end) : run.planner.run_corners();
+    run.planner.add_batch(data);
+    if (job.kind === "trials") run.done += job.end - job.first;
+    showSpreadProgress(run);
+    await new Promise((resolve) => setTimeout(resolve, 0));
+  }
+}
+
+function stopSpreadWorkers() {
+  for (const worker of spread.pool || []) worker.terminate();
+  spread.pool = null;
+}
+
+function cancelSpread() {
+  const run = spread.run;
+  if (!run) return;
+  run.cancelled = true;
+  if (run.cancel) run.cancel();
+  $("spread-status").textContent = `Cancelled after ${run.done} of ${run.total} trials; nothing new is shaded.`;
+  spread.run = null;
+  setSpreadRunning(false);
+}
+
+function setSpreadRunning(running) {
+  $("spread-run").disabled = running;
+  $("spread-cancel").disabled = !running;
+  $("spread").dataset.running = running ? "true" : "false";
+  const bar = $("spread-progress");
+  bar.hidden = !running;
+  if (running) {
+    bar.value = 0;
+    $("spread-status").textContent = "Starting…";
+  }
+}
+
+function showSpreadEngine(workers, text) {
+  $("spread").dataset.workers = String(workers);
+  $("spread-status").dataset.engine = text;
+}
+
+function showSpreadProgress(run) {
+  const bar = $("spread-progress");
+  bar.max = run.total;
+  bar.value = run.done;
+  $("spread-status").textContent = `${run.done} of ${run.total} trials on ${run.engine}`;
+}
+
+/** Summarises, hands the bands to the session and shows the figures. */
+function finishSpread(run, elapsedMs) {
+  const mask = state.mask ?? null;
+  let summaryJson;
+  let maskProblem = null;
+  try {
+    summaryJson = run.planner.summarize(mask ? JSON.stringify(mask) : null);
+  } catch (error) {
+    if (!mask) throw error;
+    maskProblem = splitFieldMessage(errorText(error)).text;
+    summaryJson = run.planner.summarize(null);
+  }
+  session.set_tolerance(summaryJson);
+  spread.summary = JSON.parse(summaryJson);
+  // A counter that tests wait on.
+  $("spread").dataset.runs = String(Number($("spread").dataset.runs || 0) + 1);
+  spread.summary.maskProblem = maskProblem;
+  $("spread-status").textContent = `${run.total} trials on ${run.engine} in ${Math.round(elapsedMs)} ms.`;
+  renderSpreadResults();
+  redraw({ report: true });
+}
+
+function renderSpreadResults() {
+  const summary = spread.summary;
+  $("spread-results").hidden = !summary;
+  if (!summary) return;
+  const text = summary.formatted;
+  $("spread-run-text").textContent = `Ran ${text.run}.`;
+  $("spread-figures").replaceChildren(...text.spreads.flatMap((item) => {
+    const term = document.createElement("dt");
+    term.textContent = item.label;
+    const detail = document.createElement("dd");
+    detail.textContent = item.text;
+    return [term, detail];
+  }));
+  $("spread-yield").textContent = summary.maskProblem
+    ? `The yield could not be counted against the spec mask: ${summary.maskProblem}.`
+    : text.yield ?? "No spec mask is set, so no yield is counted.";
+  updateSpreadState();
+}
+
+/** Marks the results stale once the working design is no longer the one they were run on. */
+function updateSpreadState() {
+  if (!session || !spread.summary) return;
+  const state_ = session.tolerance_state();
+  $("spread-stale").hidden = state_ !== "stale";
+  $("spread").dataset.bands = state_;
+}
+
+/** The spread in the printed report, when it applies to the design. */
+function renderSpreadReport() {
+  const shown = Boolean(spread.summary) && session.tolerance_state() === "shown";
+  $("r-spread").hidden = !shown;
+  if (!shown) return;
+  const text = spread.summary.formatted;
+  $("r-spread-run").textContent = `${text.run}. ${text.yield ?? ""}`.trim();
+  $("r-spread-figures").replaceChildren(...text.spreads.map((item) => {
+    const line = document.createElement("li");
+    line.textContent = `${item.label}: ${item.text}`;
+    return line;
+  }));
 }
 
 // ---------------------------------------------------------------- formatting (by the core)

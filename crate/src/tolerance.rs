@@ -932,6 +932,19 @@ impl TolerancePlan {
 }
 
 impl TrialResponse {
+    /// A response from its values on the plan's grid, as a batch carried between threads or
+    /// Web Workers holds them: everything [`TolerancePlan::summarize`] and
+    /// [`TolerancePlan::mask_yield`] read. The dB slopes, used only while a trial's −3 dB corners
+    /// are found, are unknown (NaN) in such a copy.
+    ///
+    /// # Panics
+    /// If the three slices differ in length.
+    pub fn from_values(gain_db: Vec<f64>, phase_deg: Vec<f64>, group_delay_s: Vec<f64>) -> TrialResponse {
+        let n = gain_db.len();
+        assert!(phase_deg.len() == n && group_delay_s.len() == n, "one value per frequency in each quantity");
+        TrialResponse { gain_db, phase_deg, group_delay_s, slope_db: vec![f64::NAN; n] }
+    }
+
     fn empty(n: usize) -> TrialResponse {
         TrialResponse {
             gain_db: vec![f64::NAN; n],

@@ -12,12 +12,13 @@
 use plotters::chart::{ChartBuilder, SeriesLabelPosition};
 use plotters::coord::Shift;
 use plotters::drawing::{DrawingArea, DrawingAreaErrorKind};
-use plotters::element::{Circle, DashedPathElement, DynElement, IntoDynElement, PathElement};
+use plotters::element::{Circle, DashedPathElement, DynElement, IntoDynElement, PathElement, Polygon};
 use plotters::prelude::{DrawingBackend, Rectangle};
 use plotters::series::{DashedLineSeries, LineSeries};
 use plotters::style::{Color, IntoFont, RGBColor, ShapeStyle, TextStyle};
 
 use crate::axis::{format_engineering, format_frequency_label, format_plain, nice_frequency_ticks};
+use crate::band::{band_polygons, Band};
 use crate::clip::split_into_runs;
 use crate::coord::TickedAxis;
 use crate::error::PlotError;
@@ -65,6 +66,9 @@ pub struct Panel<'a> {
     /// The y range `(low, high)` in the quantity's unit (ohms for |Z|), or `None` for an
     /// automatic range (see [`crate::range::auto_y_range`]).
     pub y_range: Option<(f64, f64)>,
+    /// Shaded bands drawn behind the curves, clipped at the axis ranges; they do not widen the
+    /// automatic y range.
+    pub bands: Vec<Band<'a>>,
 }
 
 /// Options that apply to the whole chart.
@@ -158,6 +162,8 @@ const LABEL_FONT_PX: u32 = 12;
 const LEGEND_FONT_PX: u32 = 11;
 /// Minor grid lines are drawn when the axis spans at most this many decades.
 const MAX_DECADES_WITH_MINOR_GRID: f64 = 6.0;
+/// The smallest plot height, in pixels, whose legend also lists the labelled bands.
+const MIN_HEIGHT_FOR_BAND_LEGEND: u32 = 80;
 /// Dash and gap length of the ideal curve, in pixels.
 const DASH_PX: u32 = 6;
 const DASH_GAP_PX: u32 = 4;
@@ -201,6 +207,17 @@ fn plan_chart(panels: &[Panel], options: &ChartOptions) -> Result<ChartPlan, Plo
                 n_frequencies: series.f_hz.len(),
                 n_values: series.values.len(),
             });
+        }
+    }
+    for band in panels.iter().flat_map(|panel| &panel.bands) {
+        for edge in [band.lower, band.upper] {
+            if band.f_hz.len() != edge.len() {
+                return Err(PlotError::LengthMismatch {
+                    label: band.label.to_string(),
+                    n_frequencies: band.f_hz.len(),
+                    n_values: edge.len(),
+                });
+            }
         }
     }
     if let Some((lo, hi)) = options.f_range_hz {
@@ -339,7 +356,13 @@ fn draw_panel<DB: DrawingBackend>(
         .map_err(drawing_error)?;
 
     let strokes = series_strokes(&panel.series, colours);
-    let show_legend = panel.series.len() > 1;
+    let band_colour = strokes.first().map_or(colours.series[0], |stroke| stroke.colour);
+    draw_bands(&mut chart, panel, band_colour, x_axis, y_axis, log_y)?;
+    // A short strip (the printed report's) has no room for band entries beside the curves'.
+    let strip_height = strip.dim_in_pixel().1.saturating_sub(MARGIN_TOP + MARGIN_BOTTOM + x_label_area);
+    let band_legend = strip_height >= MIN_HEIGHT_FOR_BAND_LEGEND;
+    let labelled_bands = if band_legend { panel.bands.iter().filter(|band| !band.label.is_empty()).count() } else { 0 };
+    let show_legend = panel.series.len() + labelled_bands > 1;
     if show_legend {
         // Legend entries are registered first, in the order given, with no points of their
         // own; the curves below are drawn in a different order (primary on top).
@@ -353,6 +376,14 @@ fn draw_panel<DB: DrawingBackend>(
                 .map_err(drawing_error)?
                 .label(series.label)
                 .legend(move |(x, y)| legend_sample::<DB>((x, y), stroke));
+        }
+        for band in panel.bands.iter().filter(|band| band_legend && !band.label.is_empty()) {
+            let fill = band_colour.mix(band.style.alpha()).filled();
+            chart
+                .draw_series(LineSeries::new(Vec::<(f64, f64)>::new(), fill))
+                .map_err(drawing_error)?
+                .label(band.label)
+                .legend(move |(x, y)| Rectangle::new([(x, y - 4), (x + 18, y + 4)], fill).into_dyn());
         }
     }
 
@@ -417,6 +448,36 @@ fn draw_panel<DB: DrawingBackend>(
         y_range: plan.y_range,
         y_log: log_y,
     })
+}
+
+/// Fills each band of `panel` behind its curves, clipped at the axis ranges (see
+/// [`crate::band`]).
+fn draw_bands<DB: DrawingBackend>(
+    chart: &mut plotters::chart::ChartContext<DB, plotters::coord::cartesian::Cartesian2d<TickedAxis, TickedAxis>>,
+    panel: &Panel,
+    colour: RGBColor,
+    x_axis: (f64, f64),
+    y_axis: (f64, f64),
+    log_y: bool,
+) -> Result<(), PlotError> {
+    let to_axis = |values: &[Option<f64>]| -> Vec<Option<f64>> {
+        values
+            .iter()
+            .map(|value| match value {
+                Some(v) if v.is_finite() && !log_y => Some(*v),
+                Some(v) if v.is_finite() && *v > 0.0 => Some(v.log10()),
+                _ => None,
+            })
+            .collect()
+    };
+    for band in &panel.bands {
+        let x: Vec<f64> =
+            band.f_hz.iter().map(|&f| if f.is_finite() && f > 0.0 { f.log10() } else { f64::NAN }).collect();
+        let fill = colour.mix(band.style.alpha()).filled();
+        let polygons = band_polygons(&x, &to_axis(band.lower), &to_axis(band.upper), x_axis, y_axis);
+        chart.draw_series(polygons.into_iter().map(|points| Polygon::new(points, fill))).map_err(drawing_error)?;
+    }
+    Ok(())
 }
 
 /// Chooses colour, width and dash for every series of a panel.

@@ -26,6 +26,8 @@ pub mod range;
 
 pub mod clip;
 
+pub mod band;
+
 pub mod theme;
 
 pub mod layout;
@@ -39,6 +41,7 @@ mod coord;
 pub use axis::{
     format_engineering, format_frequency_label, format_plain, nice_frequency_ticks, nice_linear_ticks, nice_log_ticks,
 };
+pub use band::{band_polygons, Band, BandStyle};
 pub use chart::{draw_panels, ChartOptions, Panel, Series, SeriesStyle};
 pub use clip::split_into_runs;
 pub use error::PlotError;

@@ -2,7 +2,9 @@
 
 mod common;
 
-use bandwright_plot::{draw_panels, ChartOptions, Panel, PanelLayout, PlotError, Quantity, Series, SeriesStyle, Theme};
+use bandwright_plot::{
+    draw_panels, Band, BandStyle, ChartOptions, Panel, PanelLayout, PlotError, Quantity, Series, SeriesStyle, Theme,
+};
 use plotters::prelude::{IntoDrawingArea, SVGBackend};
 use plotters::style::RGBColor;
 
@@ -92,6 +94,7 @@ fn three_panels<'a>(data: &'a common::LowPass) -> Vec<Panel<'a>> {
                 Series { label: "asymptote", f_hz: &data.f_hz, values: &data.asymptote_db, style: SeriesStyle::Ideal },
             ],
             y_range: None,
+            bands: Vec::new(),
         },
         Panel {
             quantity: Quantity::PhaseDeg,
@@ -102,6 +105,7 @@ fn three_panels<'a>(data: &'a common::LowPass) -> Vec<Panel<'a>> {
                 style: SeriesStyle::Primary,
             }],
             y_range: None,
+            bands: Vec::new(),
         },
         Panel {
             quantity: Quantity::GroupDelayS,
@@ -112,6 +116,7 @@ fn three_panels<'a>(data: &'a common::LowPass) -> Vec<Panel<'a>> {
                 style: SeriesStyle::Primary,
             }],
             y_range: None,
+            bands: Vec::new(),
         },
     ]
 }
@@ -244,6 +249,7 @@ fn gaps_break_the_curve() {
         quantity: Quantity::PhaseDeg,
         series: vec![Series { label: "", f_hz: &data.f_hz, values: &data.phase_deg, style: SeriesStyle::Primary }],
         y_range: None,
+        bands: Vec::new(),
     }];
     let (result, svg) = render(&panels, &ChartOptions::default());
     result.unwrap();
@@ -264,6 +270,7 @@ fn impedance_panel_uses_a_log_axis_with_ohm_labels() {
             style: SeriesStyle::Primary,
         }],
         y_range: None,
+        bands: Vec::new(),
     }];
     let options = ChartOptions { theme: Theme::Dark, title: Some("RC input impedance".to_string()), ..audio_band() };
     let (result, svg) = render(&panels, &options);
@@ -296,12 +303,13 @@ fn bad_input_gives_errors_not_panics() {
             quantity: Quantity::ImpedanceOhm,
             series: vec![Series { label: "z", f_hz: &data.f_hz, values, style: SeriesStyle::Primary }],
             y_range,
+            bands: Vec::new(),
         }];
         render(&panels, &ChartOptions::default()).0.unwrap_err()
     };
 
     assert_eq!(render(&[], &ChartOptions::default()).0.unwrap_err(), PlotError::NoPanels);
-    let empty = vec![Panel { quantity: Quantity::MagnitudeDb, series: vec![], y_range: None }];
+    let empty = vec![Panel { quantity: Quantity::MagnitudeDb, series: vec![], y_range: None, bands: Vec::new() }];
     assert!(matches!(
         render(&empty, &ChartOptions::default()).0,
         Err(PlotError::EmptyData { panel_idx: 0, quantity: Quantity::MagnitudeDb })
@@ -338,6 +346,7 @@ fn non_finite_values_are_gaps() {
         quantity: Quantity::MagnitudeDb,
         series: vec![Series { label: "", f_hz: &f_hz, values: &values, style: SeriesStyle::Primary }],
         y_range: None,
+        bands: Vec::new(),
     }];
     let (result, svg) = render(&panels, &ChartOptions::default());
     result.unwrap();
@@ -359,6 +368,7 @@ fn styles_get_their_own_colours_and_primary_is_drawn_last() {
             Series { label: "", f_hz: &data.f_hz, values: &band, style: SeriesStyle::Band },
         ],
         y_range: None,
+        bands: Vec::new(),
     }];
     let (result, svg) = render(&panels, &ChartOptions::default());
     result.unwrap();
@@ -378,4 +388,98 @@ fn styles_get_their_own_colours_and_primary_is_drawn_last() {
     let labels = text_labels(&svg);
     assert!(labels.contains(&"design".to_string()) && labels.contains(&"kept".to_string()));
     assert_eq!(labels.iter().filter(|l| l.is_empty()).count(), 0, "empty label drawn: {labels:?}");
+}
+
+/// A `<polygon>` as (fill colour, opacity, points).
+type Fill = (String, String, Vec<(f64, f64)>);
+
+/// Every `<polygon>`.
+fn polygons(svg: &str) -> Vec<Fill> {
+    svg.split("<polygon")
+        .skip(1)
+        .map(|chunk| {
+            let element = &chunk[..chunk.find("/>").expect("closed polygon")];
+            let points = attribute(element, "points")
+                .split_whitespace()
+                .map(|pair| {
+                    let (x, y) = pair.split_once(',').expect("x,y");
+                    (x.parse().expect("x"), y.parse().expect("y"))
+                })
+                .collect();
+            (attribute(element, "fill").to_string(), attribute(element, "opacity").to_string(), points)
+        })
+        .collect()
+}
+
+#[test]
+fn bands_are_filled_behind_the_curves_and_clipped_at_the_axes() {
+    let data = common::low_pass(61, Some(30));
+    // ±1 dB around the curve (outer) and ±0.5 dB (inner); the outer one's top edge is lifted far
+    // above the fixed y range over the first points, so it must be clipped there.
+    let shift = |d: f64| data.magnitude_db.iter().map(|v| v.map(|v| v + d)).collect::<Vec<_>>();
+    let (mut upper, lower, inner_hi, inner_lo) = (shift(1.0), shift(-1.0), shift(0.5), shift(-0.5));
+    for value in upper.iter_mut().take(5) {
+        *value = Some(500.0);
+    }
+    upper[10] = Some(f64::NAN);
+    let panels = vec![Panel {
+        quantity: Quantity::MagnitudeDb,
+        series: vec![Series { label: "A", f_hz: &data.f_hz, values: &data.magnitude_db, style: SeriesStyle::Primary }],
+        y_range: Some((-60.0, 5.0)),
+        bands: vec![
+            Band { label: "min … max", f_hz: &data.f_hz, lower: &lower, upper: &upper, style: BandStyle::Outer },
+            Band { label: "", f_hz: &data.f_hz, lower: &inner_lo, upper: &inner_hi, style: BandStyle::Inner },
+        ],
+    }];
+    let (result, svg) = render(&panels, &audio_band());
+    let layout = result.expect("chart draws");
+    let primary = hex(Theme::Light.colours().series[0]);
+    let fills = polygons(&svg);
+    // The outer band breaks at the NaN (index 10) and at the gap (30): three pieces; the inner
+    // band breaks at the gap only: two. (The legend sample of the labelled band is a rect.)
+    let outer: Vec<_> = fills.iter().filter(|(fill, opacity, _)| *fill == primary && opacity == "0.16").collect();
+    let inner: Vec<_> = fills.iter().filter(|(fill, opacity, _)| *fill == primary && opacity == "0.3").collect();
+    assert_eq!(outer.len(), 3, "{fills:?}");
+    assert_eq!(inner.len(), 2, "{fills:?}");
+    // Inside the plotting rectangle, with no NaN in the SVG.
+    let (left, top, right, bottom) = layout.panels[0].plot_px;
+    for (_, _, points) in outer.iter().chain(&inner) {
+        for &(x, y) in points {
+            assert!(x >= f64::from(left) - 1.0 && x <= f64::from(right) + 1.0, "x {x}");
+            assert!(y >= f64::from(top) - 1.0 && y <= f64::from(bottom) + 1.0, "y {y}");
+        }
+    }
+    assert!(!svg.contains("NaN"));
+    // The first outer piece reaches the top border where its edge was lifted.
+    assert!(outer[0].2.iter().any(|&(_, y)| (y - f64::from(top)).abs() <= 1.0));
+    // Bands are drawn before the curve: the first polygon comes before the primary polyline.
+    let first_fill = svg.find("<polygon").unwrap();
+    let first_curve = svg.find(&format!("stroke=\"{primary}\"")).unwrap();
+    assert!(first_fill < first_curve);
+    assert!(text_labels(&svg).contains(&"min … max".to_string()));
+    // A short strip keeps its legend to the curves; the band is still filled.
+    let (result, short) = render_sized(&panels, &audio_band(), (800, 120));
+    result.expect("short chart draws");
+    assert!(!text_labels(&short).contains(&"min … max".to_string()));
+    assert!(short.contains("<polygon"));
+}
+
+#[test]
+fn a_band_of_the_wrong_length_is_named() {
+    let data = common::low_pass(11, None);
+    let short = vec![Some(0.0); 3];
+    let panels = vec![Panel {
+        quantity: Quantity::MagnitudeDb,
+        series: vec![Series { label: "A", f_hz: &data.f_hz, values: &data.magnitude_db, style: SeriesStyle::Primary }],
+        y_range: None,
+        bands: vec![Band {
+            label: "spread",
+            f_hz: &data.f_hz,
+            lower: &short,
+            upper: &data.magnitude_db,
+            style: BandStyle::Outer,
+        }],
+    }];
+    let error = render(&panels, &ChartOptions::default()).0.unwrap_err();
+    assert_eq!(error, PlotError::LengthMismatch { label: "spread".into(), n_frequencies: 11, n_values: 3 });
 }

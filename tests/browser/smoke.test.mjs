@@ -10,12 +10,14 @@ import { openApp, ROOT, PAGE_URL } from "./harness.mjs";
 // The JS-facing API of bandwright-web (the contract between the bindings and the page).
 const EXPORTS = [
   "Session",
+  "TolerancePlanner",
   "cautions",
   "check_design",
   "demo_design",
   "demo_request",
   "fit",
   "format_value",
+  "parse_tolerance",
   "parse_value",
   "parts_csv",
   "schematic",

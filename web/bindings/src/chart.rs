@@ -4,7 +4,7 @@
 
 use crate::error::WebError;
 use crate::session::{Curves, Workbench};
-use bandwright_plot::{draw_panels, ChartOptions, Panel, PanelLayout, Quantity, Series, Theme};
+use bandwright_plot::{draw_panels, Band, BandStyle, ChartOptions, Panel, PanelLayout, Quantity, Series, Theme};
 use plotters::coord::Shift;
 use plotters::prelude::{DrawingArea, DrawingBackend, IntoDrawingArea, SVGBackend};
 
@@ -38,6 +38,8 @@ pub fn draw<DB: DrawingBackend>(
 ) -> Result<PanelLayout, WebError> {
     let grid = bench.grid().frequencies();
     let f_range_hz = (grid[0], grid[grid.len() - 1]);
+    // A copy (a few thousand numbers), since the sweep below borrows the bench.
+    let bands = bench.tolerance_bands().cloned();
     let swept = bench.swept();
     let panels: Vec<Panel> = PANELS
         .iter()
@@ -53,6 +55,7 @@ pub fn draw<DB: DrawingBackend>(
                 })
                 .collect(),
             y_range: None,
+            bands: bands.as_ref().map(|b| tolerance_bands(b, quantity)).unwrap_or_default(),
         })
         .collect();
     let options = ChartOptions { f_range_hz: Some(f_range_hz), theme, title: None, cursor_hz: None };
@@ -79,6 +82,29 @@ pub fn svg(bench: &mut Workbench, width: u32, height: u32, theme: Theme) -> Resu
         draw(&area, bench, theme)?;
     }
     Ok(text)
+}
+
+/// The min/max and percentile bands of a tolerance run on a panel; the legend names them on the
+/// magnitude panel only.
+fn tolerance_bands(bands: &crate::tolerance::ToleranceBands, quantity: Quantity) -> Vec<Band<'_>> {
+    let Some([min, max, low, high]) = bands.edges(quantity) else { return Vec::new() };
+    let labelled = quantity == Quantity::MagnitudeDb;
+    vec![
+        Band {
+            label: if labelled { &bands.labels.0 } else { "" },
+            f_hz: &bands.f_hz,
+            lower: min,
+            upper: max,
+            style: BandStyle::Outer,
+        },
+        Band {
+            label: if labelled { &bands.labels.1 } else { "" },
+            f_hz: &bands.f_hz,
+            lower: low,
+            upper: high,
+            style: BandStyle::Inner,
+        },
+    ]
 }
 
 fn values_of(curves: &Curves, quantity: Quantity) -> &[Option<f64>] {
@@ -127,5 +153,35 @@ mod tests {
             assert_eq!(panel.f_range_hz, (grid[0], grid[grid.len() - 1]));
         }
         assert!(theme_named("sepia").unwrap_err().to_string().contains("light or dark"));
+    }
+
+    #[test]
+    fn a_tolerance_summary_is_shaded_until_the_design_changes() {
+        let mut bench = Workbench::new(RC).unwrap();
+        let f_hz = bench.grid().frequencies().to_vec();
+        let options = serde_json::json!({"trials": "30", "seed": "3", "f_hz": f_hz}).to_string();
+        let mut planner = crate::tolerance::Planner::new(RC, &options).unwrap();
+        planner.add_batch(&planner.run_trials(0, 30)).unwrap();
+        planner.add_batch(&planner.run_corners()).unwrap();
+        let summary = planner.summarize(None).unwrap().to_string();
+        let polygons = |bench: &mut Workbench| svg(bench, 800, 640, Theme::Light).unwrap().matches("<polygon").count();
+        assert_eq!(polygons(&mut bench), 0);
+        bench.set_tolerance(Some(&summary)).unwrap();
+        assert_eq!(bench.tolerance_state(), crate::tolerance::BandState::Shown);
+        // Two bands on each of magnitude, phase and group delay, none on |Z|.
+        let text = svg(&mut bench, 800, 640, Theme::Light).unwrap();
+        assert_eq!(text.matches("<polygon").count(), 6, "{}", &text[..200]);
+        assert!(text.contains("spread min…max") && text.contains("spread 5…95 %"));
+        // Another value: the bands no longer apply and are not drawn; the old value again: they are.
+        bench.set_part("R1", 1200.0).unwrap();
+        assert_eq!(bench.tolerance_state(), crate::tolerance::BandState::Stale);
+        assert_eq!(polygons(&mut bench), 0);
+        bench.set_part("R1", 1000.0).unwrap();
+        assert_eq!(polygons(&mut bench), 6);
+        // A summary that is not one is refused and the bands stay.
+        assert!(bench.set_tolerance(Some("{}")).unwrap_err().to_string().contains("cannot be drawn"));
+        assert_eq!(polygons(&mut bench), 6);
+        bench.set_tolerance(None).unwrap();
+        assert_eq!(bench.tolerance_state(), crate::tolerance::BandState::None);
     }
 }

@@ -8,7 +8,8 @@
 //!
 //! Exports (the contract with web/app.js): `version`, `demo_design`, `demo_request`, `fit`,
 //! `check_design`, `parse_value`, `format_value`, `step_value`, `share_encode`, `share_decode`,
-//! `parts_csv`, `cautions`, `schematic`, `fit_by_yield` and the class `Session`.
+//! `parts_csv`, `cautions`, `schematic`, `fit_by_yield` and the class `Session`; for tolerance
+//! runs, `parse_tolerance` and the class `TolerancePlanner` (see [`tolerance`]).
 //!
 //! Everything but the canvas is plain Rust and unit-tested natively (`cargo test -p
 //! bandwright-web`); the `#[wasm_bindgen]` wrappers below only convert.
@@ -28,6 +29,8 @@ pub mod session;
 pub mod chart;
 
 pub mod canvas;
+
+pub mod tolerance;
 
 pub mod yield_fit;
 
@@ -214,10 +217,82 @@ impl Session {
         self.bench.sweep_csv()
     }
 
+    /// Shades a tolerance summary ([`TolerancePlanner::summarize`]) on the magnitude, phase and
+    /// group-delay panels while it applies to the working design; `null` removes it.
+    pub fn set_tolerance(&mut self, summary_json: Option<String>) -> Result<(), JsError> {
+        self.bench.set_tolerance(summary_json.as_deref()).map_err(js)
+    }
+
+    /// "none", "shown", or "stale" (the design changed since the run; the bands are not drawn).
+    pub fn tolerance_state(&self) -> String {
+        self.bench.tolerance_state().name().to_string()
+    }
+
+    /// The frequencies of the grid in use, in Hz (what a tolerance run should use).
+    pub fn frequencies(&self) -> Vec<f64> {
+        self.bench.grid().frequencies().to_vec()
+    }
+
     /// The plot as an SVG document.
     pub fn plot_svg(&mut self, width: u32, height: u32, theme: &str) -> Result<String, JsError> {
         let theme = chart::theme_named(theme).map_err(js)?;
         chart::svg(&mut self.bench, width, height, theme).map_err(js)
+    }
+}
+
+// ---------------------------------------------------------------- tolerance runs
+
+/// Reads a tolerance as typed ("1", "0.5 %") into a percentage from 0 to 100.
+#[wasm_bindgen]
+pub fn parse_tolerance(text: &str) -> Result<f64, JsError> {
+    tolerance::parse_tolerance_pct(text).map_err(js)
+}
+
+/// A compiled tolerance run. The page makes one per worker (and one on the main thread for the
+/// summary); each runs trial ranges, and the main one takes the batches and summarises them.
+#[wasm_bindgen]
+pub struct TolerancePlanner {
+    planner: tolerance::Planner,
+}
+
+#[wasm_bindgen]
+impl TolerancePlanner {
+    /// Compiles a run of a design file with the page's options (JSON: `trials`, `seed`, `band`
+    /// as typed, `distribution`, `corners`, `tolerances` by reference in percent, and the grid
+    /// `f_hz`). Errors about an option start with `field <name>: `.
+    #[wasm_bindgen(constructor)]
+    pub fn new(design_json: &str, options_json: &str) -> Result<TolerancePlanner, JsError> {
+        Ok(TolerancePlanner { planner: tolerance::Planner::new(design_json, options_json).map_err(js)? })
+    }
+
+    /// The run and its varied parts (JSON).
+    pub fn describe(&self) -> String {
+        self.planner.describe().to_string()
+    }
+
+    /// Runs trials `first..end` and returns them as one flat `Float64Array` (transferable).
+    pub fn run_trials(&self, first: u32, end: u32) -> Vec<f64> {
+        self.planner.run_trials(first as usize, end as usize)
+    }
+
+    /// Evaluates the worst-case corners, flat.
+    pub fn run_corners(&self) -> Vec<f64> {
+        self.planner.run_corners()
+    }
+
+    /// Takes a flat batch for the summary.
+    pub fn add_batch(&mut self, data: &[f64]) -> Result<(), JsError> {
+        self.planner.add_batch(data).map_err(js)
+    }
+
+    /// How many trials have been handed in.
+    pub fn trials_done(&self) -> u32 {
+        u32::try_from(self.planner.trials_done()).unwrap_or(u32::MAX)
+    }
+
+    /// The summary (JSON) with the yield against `mask_json` (a spec mask) when given.
+    pub fn summarize(&self, mask_json: Option<String>) -> Result<String, JsError> {
+        Ok(self.planner.summarize(mask_json.as_deref()).map_err(js)?.to_string())
     }
 }
 

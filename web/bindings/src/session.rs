@@ -78,6 +78,8 @@ pub struct Workbench {
     auto_range_hz: (f64, f64),
     grid: FrequencyGrid,
     layout: Option<PanelLayout>,
+    /// The last tolerance summary's bands (drawn only while they apply to the working design).
+    tolerance: Option<crate::tolerance::ToleranceBands>,
 }
 
 impl Track {
@@ -219,7 +221,16 @@ impl Workbench {
         let auto_range_hz = design_range(&working);
         let grid_request = GridRequest::default();
         let grid = make_grid(grid_request, auto_range_hz)?;
-        Ok(Self { working, ideal: None, variant: None, grid_request, auto_range_hz, grid, layout: None })
+        Ok(Self {
+            working,
+            ideal: None,
+            variant: None,
+            grid_request,
+            auto_range_hz,
+            grid,
+            layout: None,
+            tolerance: None,
+        })
     }
 
     /// Replaces the working design; the ideal and the kept variant stay.
@@ -415,6 +426,32 @@ impl Workbench {
             out.push_str("\r\n");
         }
         out
+    }
+
+    // ---- tolerance bands
+
+    /// Keeps a tolerance summary's bands for drawing, or drops them with `None`.
+    ///
+    /// # Errors
+    /// A summary that cannot be read; the previous bands stay.
+    pub fn set_tolerance(&mut self, summary_json: Option<&str>) -> Result<(), WebError> {
+        self.tolerance = summary_json.map(crate::tolerance::ToleranceBands::from_summary).transpose()?;
+        Ok(())
+    }
+
+    /// The bands to draw: those of the last summary, while it is for the working design.
+    pub fn tolerance_bands(&self) -> Option<&crate::tolerance::ToleranceBands> {
+        self.tolerance.as_ref().filter(|bands| bands.applies_to(&self.working.design))
+    }
+
+    /// Whether bands are held, and whether they apply to the working design.
+    pub fn tolerance_state(&self) -> crate::tolerance::BandState {
+        use crate::tolerance::BandState;
+        match &self.tolerance {
+            None => BandState::None,
+            Some(bands) if bands.applies_to(&self.working.design) => BandState::Shown,
+            Some(_) => BandState::Stale,
+        }
     }
 
     /// The working design.

@@ -3,7 +3,9 @@
 // the glue's `initSync`, and hands the glue's exports to the page code as the frozen object
 // `bandwright` (also `globalThis.bandwright`, for tests and the console). Nothing is fetched.
 // When the feature check before this module found something missing, `bandwright` is null and
-// the page code does not run.
+// the page code does not run. The compiled module stays in `bandwrightWasmModule`, so that the
+// page can post it to Web Workers (a WebAssembly.Module is structured-cloneable).
+let bandwrightWasmModule = null;
 const bandwright = globalThis.bandwrightUnsupported ? null : await (async () => {
   try {
     // Native base64 decoding where the browser has it; otherwise one pass over atob's text
@@ -20,7 +22,8 @@ const bandwright = globalThis.bandwrightUnsupported ? null : await (async () => 
     }
     const stream = new Blob([packed]).stream().pipeThrough(new DecompressionStream("gzip"));
     const bytes = await new Response(stream).arrayBuffer();
-    initSync({ module: await WebAssembly.compile(bytes) });
+    bandwrightWasmModule = await WebAssembly.compile(bytes);
+    initSync({ module: bandwrightWasmModule });
   } catch (error) {
     const note = document.getElementById("bandwright-unsupported") ??
       document.body.insertBefore(document.createElement("p"), document.body.firstChild);

@@ -153,6 +153,7 @@ fn build(root: &Path, options: &BuildOptions) -> Result<()> {
         app: &page_sources.app,
         glue: &glue,
         wasm_gz_base64: &wasm_gz_base64,
+        worker: page_sources.worker.as_deref(),
     })
     .with_context(|| format!("cannot assemble the page from {}", options.page_dir.display()))?;
     println!("exports reachable as `bandwright`: {}", page.exports.join(", "));
@@ -184,6 +185,8 @@ struct PageFiles {
     template: String,
     style: String,
     app: String,
+    /// worker.js, when the page folder has one (the build tool's test page has none).
+    worker: Option<String>,
 }
 
 fn read_page_sources(page_dir: &Path) -> Result<PageFiles> {
@@ -196,7 +199,9 @@ fn read_page_sources(page_dir: &Path) -> Result<PageFiles> {
             )
         })
     };
-    Ok(PageFiles { template: read("index.html")?, app: read("app.js")?, style: read("style.css")? })
+    let worker_path = page_dir.join("worker.js");
+    let worker = if worker_path.exists() { Some(read("worker.js")?) } else { None };
+    Ok(PageFiles { template: read("index.html")?, app: read("app.js")?, style: read("style.css")?, worker })
 }
 
 /// Finds binaryen's wasm-opt installed by `npm ci` in web/ and checks its version.

@@ -8,6 +8,12 @@
 //! - `<!-- bandwright:style -->` (exactly once): becomes `<style>` with the page CSS.
 //! - `<!-- bandwright:script -->` (exactly once): becomes the browser-floor check (a classic
 //!   script) and one module script holding the glue, the bootstrap and the page module.
+//! - When a worker script is given (web/worker.js), the script placeholder also gets a
+//!   non-executing `<script type="text/plain" id="bandwright-worker-source">` holding it. The
+//!   page builds a module worker from a Blob of the glue (which it reads back from its own module
+//!   script, between [`GLUE_START`] and [`GLUE_END`], so the glue is not in the file twice) and
+//!   that text; the CSP then needs `worker-src blob:`. The text/plain element is not run in the
+//!   page, so it needs no hash.
 //! - `{{bandwright:script-hashes}}` and `{{bandwright:style-hashes}}` (at most once each, meant
 //!   for the Content-Security-Policy): become the CSP source expressions (`'sha256-…'`) of the
 //!   inserted scripts and style.
@@ -29,7 +35,17 @@ pub struct PageSources<'a> {
     pub glue: &'a str,
     /// The optimised wasm, gzipped and then base64-encoded (standard alphabet).
     pub wasm_gz_base64: &'a str,
+    /// The Web Worker script (web/worker.js), run after the glue in a module worker; `None` for
+    /// a page without workers.
+    pub worker: Option<&'a str>,
 }
+
+/// The id of the element that holds the worker's source text.
+pub const WORKER_SOURCE_ID: &str = "bandwright-worker-source";
+/// The line before the glue in the module script (the page reads the glue back between the two).
+pub const GLUE_START: &str = "// ---- wasm-bindgen glue (bandwright build) ----";
+/// The line after the glue in the module script.
+pub const GLUE_END: &str = "// ---- end of wasm-bindgen glue ----";
 
 /// The finished page.
 #[derive(Debug, Clone, PartialEq)]
@@ -142,13 +158,14 @@ pub fn assemble(sources: &PageSources) -> Result<Page, PageError> {
     let app = normalise_newlines(sources.app);
     let style = normalise_newlines(sources.style);
     let exports = glue_exports(&glue)?;
+    let glue = plain_glue(&glue)?;
     check_app(&app)?;
 
     let bootstrap = BOOTSTRAP
         .replace("BANDWRIGHT_EXPORTS", &format!("{{ {} }}", exports.join(", ")))
         .replace("BANDWRIGHT_WASM_GZ_BASE64", &format!("\"{}\"", sources.wasm_gz_base64));
     let module = format!(
-        "\n{glue}\n{bootstrap}\nif (bandwright !== null) {{\n// ---- web/app.js ----\n{app}\n}}\n",
+        "\n{GLUE_START}\n{glue}\n{GLUE_END}\n{bootstrap}\nif (bandwright !== null) {{\n// ---- web/app.js ----\n{app}\n}}\n",
         glue = glue.trim_end(),
         bootstrap = bootstrap.trim_end(),
         app = app.trim_end(),
@@ -163,7 +180,16 @@ pub fn assemble(sources: &PageSources) -> Result<Page, PageError> {
     check_style_text(&style)?;
     let style = format!("\n{}\n", style.trim_end());
 
-    let scripts = format!("<script>{check}</script>\n<script type=\"module\">{module}</script>");
+    let worker_element = match sources.worker {
+        Some(worker) => {
+            let worker = normalise_newlines(worker);
+            check_script_text("web/worker.js", &worker)?;
+            let text = format!("\n{}\n", worker.trim_end());
+            format!("<script type=\"text/plain\" id=\"{WORKER_SOURCE_ID}\">{text}</script>\n")
+        }
+        None => String::new(),
+    };
+    let scripts = format!("{worker_element}<script>{check}</script>\n<script type=\"module\">{module}</script>");
     let script_hashes = format!("{} {}", csp_hash(&check), csp_hash(&module));
     let html = template
         .replacen(STYLE, &format!("<style>{style}</style>"), 1)
@@ -202,6 +228,40 @@ pub fn glue_exports(glue: &str) -> Result<Vec<String>, PageError> {
         return Err(PageError::Glue { missing: "exported function or class" });
     }
     Ok(names)
+}
+
+/// Returns the glue with its `export` keywords and its closing `export { … }` list removed, so
+/// that the same text runs as a classic script (the tolerance workers: module workers from a
+/// `blob:` URL do not load in a page opened from `file://`, whose origin is opaque) and inside
+/// the page's module script, where the bootstrap names the functions and classes directly.
+///
+/// # Errors
+/// [`PageError::Glue`] when the glue imports something or has an export this does not know.
+pub fn plain_glue(glue: &str) -> Result<String, PageError> {
+    let mut out = String::with_capacity(glue.len());
+    for line in glue.lines() {
+        let trimmed = line.trim_start();
+        if trimmed.starts_with("import ") || trimmed.starts_with("import{") || trimmed.contains("import.meta") {
+            return Err(PageError::Glue { missing: "code free of imports (it has an import)" });
+        }
+        let kept = if let Some(rest) = line.strip_prefix("export ") {
+            let declared = ["function ", "class ", "const ", "let ", "var ", "async function "];
+            if declared.iter().any(|keyword| rest.starts_with(keyword)) {
+                rest
+            } else if rest.starts_with('{') && rest.trim_end().ends_with("};") {
+                continue;
+            } else {
+                return Err(PageError::Glue {
+                    missing: "export this build knows (function, class, const or a closing list)",
+                });
+            }
+        } else {
+            line
+        };
+        out.push_str(kept);
+        out.push('\n');
+    }
+    Ok(out)
 }
 
 /// Returns the CSP source expression `'sha256-…'` of an inline element's text.
@@ -294,7 +354,7 @@ mod tests {
         function initSync(module) {}\nexport { initSync, __wbg_init as default };\n";
 
     fn sources<'a>(template: &'a str, app: &'a str, glue: &'a str) -> PageSources<'a> {
-        PageSources { template, style: "body { margin: 0 }", app, glue, wasm_gz_base64: "H4sIAAAA+/=" }
+        PageSources { template, style: "body { margin: 0 }", app, glue, wasm_gz_base64: "H4sIAAAA+/=", worker: None }
     }
 
     fn check_error(template: &str, app: &str, glue: &str, expected: PageError) {
@@ -326,6 +386,7 @@ mod tests {
         assert!(module.contains("Object.freeze({ version, Session })"));
         assert!(module.contains("const base64 = \"H4sIAAAA+/=\";"));
         assert!(module.contains("if (bandwright !== null) {\n// ---- web/app.js ----\ndocument.title"));
+        assert!(module.starts_with(&format!("\n{GLUE_START}\nlet wasm;")));
         assert!(!module.contains('\r'));
         assert!(check.contains("WebAssembly.validate"));
         assert_eq!(style, "\nbody { margin: 0 }\n");
@@ -423,5 +484,42 @@ mod tests {
             PageError::Glue { missing: "`export { initSync, ... }` line" },
         );
         check_error(TEMPLATE, "", "export { initSync };\n", PageError::Glue { missing: "exported function or class" });
+        let importing = format!("import {{ x }} from './x.js';\n{GLUE}");
+        check_error(TEMPLATE, "", &importing, PageError::Glue { missing: "code free of imports (it has an import)" });
+    }
+
+    #[test]
+    fn the_plain_glue_has_no_export_keywords() {
+        assert_eq!(
+            plain_glue(GLUE).unwrap(),
+            "let wasm;\nfunction version() {\n  return 'x';\n}\nclass Session {\n}\nfunction initSync(module) {}\n"
+        );
+        assert!(plain_glue("export default 5;\n").is_err());
+    }
+
+    #[test]
+    fn the_worker_source_is_kept_as_text_and_the_glue_is_marked_for_it() {
+        let worker = "self.onmessage = () => initSync({});\r\n";
+        let page = assemble(&PageSources { worker: Some(worker), ..sources(TEMPLATE, "", GLUE) }).unwrap();
+        let text = element(&page.html, "<script type=\"text/plain\" id=\"bandwright-worker-source\">", "</script>");
+        assert_eq!(text, "\nself.onmessage = () => initSync({});\n");
+        // The glue stands once in the file, between its markers in the module script.
+        let module = element(&page.html, "<script type=\"module\">", "</script>");
+        let glue = element(module, &format!("{GLUE_START}\n"), &format!("\n{GLUE_END}"));
+        assert_eq!(glue, plain_glue(GLUE).unwrap().trim_end());
+        assert!(!glue.contains("export"), "{glue}");
+        assert_eq!(page.html.matches("function version()").count(), 1);
+        // The text element is not one of the hashed (executed) scripts: the CSP names exactly two.
+        let csp = element(&page.html, "script-src ", ";");
+        assert_eq!(csp.matches("'sha256-").count(), 2);
+        assert_eq!(csp, format!("{} {}", csp_hash(element(&page.html, "<script>", "</script>")), csp_hash(module)));
+        // Without a worker there is no such element.
+        assert!(!assemble(&sources(TEMPLATE, "", GLUE)).unwrap().html.contains(WORKER_SOURCE_ID));
+        // Text that would end the element early is refused here too.
+        let bad = PageSources { worker: Some("const s = '</script>';"), ..sources(TEMPLATE, "", GLUE) };
+        assert_eq!(
+            assemble(&bad),
+            Err(PageError::Forbidden { source: "web/worker.js".into(), found: "</script", line: 1 })
+        );
     }
 }
