@@ -9,15 +9,20 @@ import { openApp, ROOT, PAGE_URL } from "./harness.mjs";
 
 // The JS-facing API of bandwright-web (the contract between the bindings and the page).
 const EXPORTS = [
+  "CrossoverBench",
   "Session",
   "cautions",
+  "check_crossover",
   "check_design",
+  "crossover_ways",
+  "demo_crossover",
   "demo_design",
   "demo_request",
   "fit",
   "format_value",
   "parse_value",
   "parts_csv",
+  "read_impedance_csv",
   "schematic",
   "share_decode",
   "share_encode",
