@@ -63,6 +63,7 @@ function start() {
   wireGrid();
   wireKeepAndShare();
   wireSpread();
+  xoWire(); // the crossover workspace
 
   const restored = restoreWorkspace();
   let link = null;
@@ -2077,6 +2078,634 @@ function formatValue(value, quantity) {
 function formatShort(value, quantity) {
   return formatValue(value, quantity).replace(/\s*(Ω|F|H|Hz|V)$/, "").replace(" ", "");
 }
+
+// ================================================================ crossover workspace
+// The speaker-crossover workspace: its own state, store, form and plot. It shares the page and
+// the helpers above, never the filter bench's design. Every figure and text it shows comes from
+// the wasm exports (`CrossoverBench`, `check_crossover`, `crossover_ways`, `read_impedance_csv`,
+// `demo_crossover`, `parse_value`, `format_value`); this code only moves them to the DOM.
+
+/** Where the crossover workspace is kept between visits: apart from the filter design's store. */
+const XO_STORE_KEY = "bandwright.crossover.v1";
+/** The ways-and-frequencies, driver and level inputs of a branch card, by the key they fill. */
+const XO_MODEL_KEYS = ["re", "le", "l2", "r2", "fs", "qms", "qes"];
+
+const xo = {
+  bench: null, // the CrossoverBench: the last crossover that analysed, which it draws
+  file: null, // that crossover's file (object)
+  csv: {}, // impedance CSV texts by name
+  report: null, // its report (object)
+  ready: false,
+  draws: 0,
+};
+
+function xoWire() {
+  $("ws-filter").addEventListener("click", () => showWorkspace("filter"));
+  $("ws-crossover").addEventListener("click", () => showWorkspace("crossover"));
+  let saved = null;
+  try {
+    saved = JSON.parse(localStorage.getItem(XO_STORE_KEY) || "null");
+  } catch {
+    saved = { corrupt: true };
+  }
+  if (saved && saved.workspace === "crossover") showWorkspace("crossover", { save: false });
+}
+
+/** Shows one workspace; the other keeps its state. */
+function showWorkspace(name, { save = true } = {}) {
+  const crossover = name === "crossover";
+  $("app").dataset.workspace = crossover ? "crossover" : "filter";
+  $("ws-filter").setAttribute("aria-pressed", String(!crossover));
+  $("ws-crossover").setAttribute("aria-pressed", String(crossover));
+  $("xo").hidden = !crossover;
+  if (!crossover) document.title = state.design && state.design.name ? `${state.design.name} · Bandwright` : "Bandwright";
+  if (crossover) {
+    if (!xo.ready) xoStart();
+    xoRedraw();
+  } else {
+    redraw({});
+  }
+  if (save) xoSave();
+}
+
+function xoStart() {
+  xo.ready = true;
+  xo.bench = new api.CrossoverBench();
+  for (const id of ["xo-capacitors", "xo-inductors", "xo-resistors"]) {
+    const select = $(id);
+    for (const series of SERIES) select.append(new Option(series, series));
+  }
+  $("xo-capacitors").value = "E12";
+  $("xo-inductors").value = "E12";
+  $("xo-resistors").value = "E24";
+  const form = $("xo-form");
+  form.addEventListener("submit", (event) => event.preventDefault());
+  form.addEventListener("input", (event) => {
+    if (event.target.tagName === "INPUT" && event.target.type === "text") xoChangeSoon();
+  });
+  form.addEventListener("change", (event) => {
+    const target = event.target;
+    if (target.type === "file") return;
+    if (target.id === "xo-ways") return xoSetWays(Number(target.value));
+    if (target.tagName === "SELECT") xoShowWhen(target.closest(".xo-branch"));
+    xoChange();
+  });
+  $("xo-name").addEventListener("input", xoChangeSoon);
+  $("xo-demo").addEventListener("click", () => xoLoadDemo("Loaded the demo crossover (our own scenario with made-up drivers)."));
+  $("xo-save").addEventListener("click", xoSaveFile);
+  $("xo-open").addEventListener("click", () => $("xo-open-input").click());
+  $("xo-open-input").addEventListener("change", xoOpenFiles);
+  $("xo-csv").addEventListener("click", () => {
+    try {
+      download(`${xoStem()}-sweep.csv`, xo.bench.sweep_csv(), "text/csv");
+    } catch (error) {
+      xoBar(`Could not export the sweep: ${errorText(error)}`);
+    }
+  });
+  $("xo-svg").addEventListener("click", () => {
+    try {
+      download(`${xoStem()}-plot.svg`, xo.bench.plot_svg(1000, 900, theme()), "image/svg+xml");
+    } catch (error) {
+      xoBar(`Could not export the plot: ${errorText(error)}`);
+    }
+  });
+  new ResizeObserver(() => xoRedraw()).observe($("xo-plot"));
+  matchMedia("(prefers-color-scheme: dark)").addEventListener("change", () => xoRedraw());
+  window.addEventListener("pagehide", xoSave);
+  if (!xoRestore()) xoLoadDemo(null);
+}
+
+function xoRestore() {
+  let text = null;
+  try {
+    text = localStorage.getItem(XO_STORE_KEY);
+  } catch {
+    return false;
+  }
+  if (!text) return false;
+  let saved;
+  try {
+    saved = JSON.parse(text);
+    if (saved && saved.format === "bandwright-crossover-workspace" && !saved.file) return false;
+    if (!saved || saved.format !== "bandwright-crossover-workspace" || saved.version !== 1 || !saved.file) throw new Error("it is not a saved crossover workspace");
+    if (saved.options) xoWriteOptions(saved.options);
+    xoAdopt(JSON.stringify(saved.file), saved.csv || {}, "Restored the crossover you were working on.");
+    return true;
+  } catch (error) {
+    xoLoadDemo(`The crossover saved in this browser could not be read (${errorText(error)}); the demo crossover is shown instead. The filter bench's design is kept apart and is not affected.`);
+    return true;
+  }
+}
+
+function xoLoadDemo(message) {
+  const demo = JSON.parse(api.demo_crossover());
+  xoAdopt(JSON.stringify(demo.file), demo.csv, message);
+}
+
+/** Takes a crossover file (text) and CSV texts as the working crossover; throws when it fails. */
+function xoAdopt(fileText, csv, message) {
+  const checked = JSON.parse(api.check_crossover(fileText, JSON.stringify(csv)));
+  const report = JSON.parse(xo.bench.analyse(JSON.stringify(checked), JSON.stringify(csv), JSON.stringify(xoOptions())));
+  xo.file = checked;
+  xo.csv = { ...csv };
+  xoWriteForm();
+  xoClearErrors();
+  xoShowReport(report);
+  if (message) xoNotice(message);
+  xoSaveSoon();
+}
+
+// ---- the form
+
+function xoWriteOptions(options) {
+  $("xo-power").value = options.power || "";
+  $("xo-from").value = options.from || "";
+  $("xo-to").value = options.to || "";
+  for (const kind of ["capacitors", "inductors", "resistors"]) if (SERIES.includes(options[kind])) $(`xo-${kind}`).value = options[kind];
+}
+
+function xoOptions() {
+  return {
+    power: $("xo-power").value.trim() || null,
+    from: $("xo-from").value.trim() || null,
+    to: $("xo-to").value.trim() || null,
+    capacitors: $("xo-capacitors").value || null,
+    inductors: $("xo-inductors").value || null,
+    resistors: $("xo-resistors").value || null,
+  };
+}
+
+/** Puts an SI value into a text field, remembering it so that the same text reads back exactly. */
+function xoPut(input, value, quantity) {
+  if (value === undefined || value === null) {
+    input.value = "";
+    delete input.dataset.si;
+    return;
+  }
+  // Plain numbers (Q, dB, Ω/H) read better as written ("0.42", not "420m").
+  input.value = quantity === "ratio" ? String(value) : formatShort(value, quantity);
+  input.dataset.si = String(value);
+  input.dataset.shown = input.value;
+}
+
+function xoWriteForm() {
+  const file = xo.file;
+  $("xo-name").value = file.name || "";
+  $("xo-ways").value = String(file.branches.length);
+  $("xo-f2-box").hidden = file.branches.length < 3;
+  xoPut($("xo-f1"), file.crossover_frequencies[0], "frequency");
+  xoPut($("xo-f2"), file.crossover_frequencies[1], "frequency");
+  xoPut($("xo-nominal"), file.nominal_impedance, "resistance");
+  xoPut($("xo-dcr"), file.coil_resistance_per_henry, "ratio");
+  const holder = $("xo-branches");
+  holder.replaceChildren();
+  const defaults = file.defaults || {};
+  file.branches.forEach((branch, index) => {
+    const card = $("xo-branch-template").content.firstElementChild.cloneNode(true);
+    card.dataset.index = String(index);
+    const key = (name) => card.querySelector(`[data-key="${name}"]`);
+    card.querySelector('[data-role="title"]').textContent = `Branch ${index + 1}`;
+    key("name").value = branch.name;
+    key("alignment").value = branch.alignment || defaults.alignment || "linkwitz_riley";
+    key("order").value = String(branch.order || defaults.order || 2);
+    key("polarity").value = branch.polarity || defaults.polarity || "normal";
+    key("design_load").value = branch.design_load || defaults.design_load || "nominal";
+    key("zobel").value = branch.zobel || defaults.zobel || "none";
+    key("notch").value = branch.notch || defaults.notch || "none";
+    const driver = branch.driver;
+    const kind = driver.resistor !== undefined ? "resistor" : driver.measured !== undefined ? "measured" : "model";
+    key("driver_kind").value = kind;
+    xoPut(key("resistor"), driver.resistor, "resistance");
+    const model = driver.model || {};
+    for (const name of XO_MODEL_KEYS) xoPut(key(name), model[name], key(name).dataset.quantity);
+    if (kind === "measured") {
+      card.dataset.csv = driver.measured;
+      xoCsvStatus(card, driver.measured);
+    }
+    const acoustic = branch.acoustic;
+    xoPut(key("sensitivity"), acoustic ? acoustic.sensitivity : null, "ratio");
+    xoPut(key("delay"), acoustic && acoustic.delay ? acoustic.delay : null, "time");
+    if (acoustic && acoustic.response) card.dataset.response = acoustic.response;
+    const level = branch.level || {};
+    key("level_kind").value = level.l_pad !== undefined ? "l_pad" : level.series_resistor !== undefined ? "series_resistor" : "none";
+    xoPut(key("level_db"), level.l_pad ?? level.series_resistor, "ratio");
+    key("csv").addEventListener("click", () => card.querySelector('[data-role="csv-input"]').click());
+    card.querySelector('[data-role="csv-input"]').addEventListener("change", (event) => xoImportCsv(card, event));
+    holder.append(card);
+    xoShowWhen(card);
+  });
+}
+
+function xoShowWhen(card) {
+  if (!card) return;
+  const kind = card.querySelector('[data-key="driver_kind"]').value;
+  for (const part of card.querySelectorAll("[data-when]")) part.hidden = part.dataset.when !== kind;
+  const level = card.querySelector('[data-key="level_kind"]').value;
+  for (const part of card.querySelectorAll("[data-when-level]")) part.hidden = !part.dataset.whenLevel.split(" ").includes(level);
+}
+
+function xoCsvStatus(card, name, extra = "") {
+  const status = card.querySelector('[data-role="csv-status"]');
+  const text = xo.csv[name];
+  if (text === undefined) {
+    status.textContent = name ? `“${name}” is named but not loaded: import it.` : "No CSV yet.";
+    return;
+  }
+  try {
+    status.textContent = `“${name}”: ${JSON.parse(api.read_impedance_csv(text)).text}${extra}`;
+  } catch (error) {
+    status.textContent = `“${name}”: ${errorText(error)}`;
+  }
+}
+
+/** A field problem the page finds before the core sees the file. */
+class XoFieldError extends Error {
+  constructor(control, message) {
+    super(message);
+    this.control = control;
+  }
+}
+
+/** Reads a text field as a value of its quantity; `null` when empty and optional. */
+function xoValue(input, { optional = false } = {}) {
+  const text = input.value.trim();
+  if (text === "") {
+    if (optional) return null;
+    throw new XoFieldError(input, "give a value");
+  }
+  if (input.dataset.si !== undefined && input.value === input.dataset.shown) return Number(input.dataset.si);
+  try {
+    return api.parse_value(text, input.dataset.quantity);
+  } catch (error) {
+    throw new XoFieldError(input, errorText(error));
+  }
+}
+
+/** The crossover file the form describes (throws XoFieldError for a field it cannot read). */
+function xoReadForm() {
+  const base = xo.file;
+  const ways = $("xo-branches").children.length;
+  const file = {
+    format: "bandwright-crossover",
+    version: 1,
+    name: $("xo-name").value.trim(),
+    nominal_impedance: xoValue($("xo-nominal")),
+    crossover_frequencies: ways === 3 ? [xoValue($("xo-f1")), xoValue($("xo-f2"))] : [xoValue($("xo-f1"))],
+    branches: [],
+  };
+  if (base.note) file.note = base.note;
+  const dcr = xoValue($("xo-dcr"), { optional: true });
+  if (dcr !== null) file.coil_resistance_per_henry = dcr;
+  if (base.reference_sensitivity !== undefined) file.reference_sensitivity = base.reference_sensitivity;
+  for (const card of $("xo-branches").children) {
+    const key = (name) => card.querySelector(`[data-key="${name}"]`);
+    const branch = {
+      name: key("name").value.trim(),
+      order: Number(key("order").value),
+      alignment: key("alignment").value,
+      polarity: key("polarity").value,
+      design_load: key("design_load").value,
+      zobel: key("zobel").value,
+      notch: key("notch").value,
+    };
+    const kind = key("driver_kind").value;
+    if (kind === "resistor") branch.driver = { resistor: xoValue(key("resistor")) };
+    else if (kind === "measured") {
+      if (!card.dataset.csv) throw new XoFieldError(key("csv"), "choose the driver's impedance CSV with “Import impedance CSV…”");
+      branch.driver = { measured: card.dataset.csv };
+    } else {
+      const model = { re: xoValue(key("re")) };
+      for (const name of XO_MODEL_KEYS.slice(1)) {
+        const value = xoValue(key(name), { optional: true });
+        if (value !== null) model[name] = value;
+      }
+      branch.driver = { model };
+    }
+    const sensitivity = xoValue(key("sensitivity"), { optional: true });
+    const delay = xoValue(key("delay"), { optional: true });
+    if (sensitivity === null && (delay !== null || card.dataset.response)) {
+      throw new XoFieldError(key("sensitivity"), "give the driver's sensitivity together with its offset delay");
+    }
+    if (sensitivity !== null) {
+      branch.acoustic = { sensitivity };
+      if (delay !== null) branch.acoustic.delay = delay;
+      if (card.dataset.response) branch.acoustic.response = card.dataset.response;
+    }
+    const level = key("level_kind").value;
+    if (level !== "none") branch.level = { [level]: xoValue(key("level_db")) };
+    file.branches.push(branch);
+  }
+  return file;
+}
+
+let xoChangeFrame = 0;
+function xoChangeSoon() {
+  cancelAnimationFrame(xoChangeFrame);
+  xoChangeFrame = requestAnimationFrame(xoChange);
+}
+
+/** Analyses what the form says; on a problem, names it and keeps the last good crossover. */
+function xoChange() {
+  cancelAnimationFrame(xoChangeFrame);
+  xoClearErrors();
+  let file;
+  try {
+    file = xoReadForm();
+  } catch (error) {
+    if (error instanceof XoFieldError) return xoFieldError(error.control, error.message);
+    throw error;
+  }
+  let report;
+  try {
+    report = JSON.parse(xo.bench.analyse(JSON.stringify(file), JSON.stringify(xo.csv), JSON.stringify(xoOptions())));
+  } catch (error) {
+    return xoCoreError(errorText(error));
+  }
+  xo.file = file;
+  xoShowReport(report);
+  xoSaveSoon();
+}
+
+function xoSetWays(ways) {
+  let file = xo.file;
+  try {
+    file = xoReadForm();
+  } catch {
+    // An unreadable field: switch from the last good crossover.
+  }
+  try {
+    const next = JSON.parse(api.crossover_ways(JSON.stringify(file), ways));
+    const report = JSON.parse(xo.bench.analyse(JSON.stringify(next), JSON.stringify(xo.csv), JSON.stringify(xoOptions())));
+    xo.file = next;
+    xoWriteForm();
+    xoClearErrors();
+    xoShowReport(report);
+    xoSaveSoon();
+  } catch (error) {
+    $("xo-ways").value = String(xo.file.branches.length);
+    xoCoreError(errorText(error));
+  }
+}
+
+// ---- messages
+
+function xoClearErrors() {
+  for (const control of $("xo").querySelectorAll("[aria-invalid]")) control.removeAttribute("aria-invalid");
+  $("xo-msg").hidden = true;
+  $("xo-msg").textContent = "";
+}
+
+/** Where a control is, in words: "woofer, Re" or "Crossover 1". */
+function xoWhere(control) {
+  const label = control.closest("label");
+  const words = control.dataset.key === "csv" ? "impedance CSV" : label ? [...label.childNodes].filter((n) => n.nodeType === Node.TEXT_NODE).map((n) => n.textContent).join(" ").trim() : control.textContent.trim();
+  const card = control.closest(".xo-branch");
+  if (!card) return words;
+  const name = card.querySelector('[data-key="name"]').value.trim() || `branch ${Number(card.dataset.index) + 1}`;
+  return `${name}, ${words}`;
+}
+
+function xoFieldError(control, text) {
+  if (control) control.setAttribute("aria-invalid", "true");
+  const box = $("xo-msg");
+  box.textContent = `${control ? `${xoWhere(control)}: ` : ""}${text}. The plots and tables show the last crossover that worked.`;
+  box.hidden = false;
+}
+
+/** A core error `field <path>: …` goes to the control of that path; others under the form. */
+function xoCoreError(message) {
+  const match = /^field ([^:\s]+): ([\s\S]*)$/.exec(message);
+  if (!match) return xoFieldError(null, message);
+  xoFieldError(xoControlFor(match[1]), match[2]);
+}
+
+function xoControlFor(path) {
+  const top = {
+    "crossover_frequencies[0]": "xo-f1",
+    "crossover_frequencies[1]": "xo-f2",
+    nominal_impedance: "xo-nominal",
+    coil_resistance_per_henry: "xo-dcr",
+    branches: "xo-ways",
+    ways: "xo-ways",
+    power: "xo-power",
+    from: "xo-from",
+    to: "xo-to",
+    capacitors: "xo-capacitors",
+    inductors: "xo-inductors",
+    resistors: "xo-resistors",
+    name: "xo-name",
+  }[path];
+  if (top) return $(top);
+  const match = /^(?:branches\[(\d+)\]|defaults)\.(.+)$/.exec(path);
+  if (!match) return null;
+  const card = $("xo-branches").children[Number(match[1] || 0)];
+  if (!card) return null;
+  const sub = match[2];
+  const key = sub.startsWith("driver.model.") ? sub.slice("driver.model.".length)
+    : { "driver.resistor": "resistor", "driver.measured": "csv", "acoustic.sensitivity": "sensitivity", "acoustic.delay": "delay",
+        "level.l_pad": "level_db", "level.series_resistor": "level_db" }[sub] || sub;
+  return card.querySelector(`[data-key="${CSS.escape(key)}"]`);
+}
+
+function xoBar(text) {
+  const box = $("xo-file-msg");
+  box.textContent = text;
+  box.hidden = false;
+}
+
+let xoNoticeTimer = 0;
+function xoNotice(text) {
+  const bar = $("xo-notice");
+  bar.textContent = text;
+  bar.hidden = false;
+  clearTimeout(xoNoticeTimer);
+  xoNoticeTimer = setTimeout(() => (bar.hidden = true), 12000);
+}
+
+// ---- the results
+
+function xoCells(row, texts, numeric = []) {
+  for (const [index, text] of texts.entries()) {
+    const cell = document.createElement("td");
+    cell.textContent = text ?? "—";
+    if (numeric.includes(index)) cell.className = "num";
+    row.append(cell);
+  }
+  return row;
+}
+
+function xoItems(list, lines) {
+  list.replaceChildren(...lines.map((line) => {
+    const item = document.createElement("li");
+    item.textContent = typeof line === "string" ? line : line.text;
+    if (line.className) item.className = line.className;
+    return item;
+  }));
+}
+
+function xoShowReport(report) {
+  xo.report = report;
+  $("xo-file-msg").hidden = true;
+  if (!$("xo").hidden) document.title = `${report.name || "Speaker crossover"} · Bandwright`;
+  const minimum = report.impedance_minimum;
+  xoItems($("xo-summary"), [
+    { text: `Impedance minimum, as built: ${minimum.built.text}.`, className: minimum.built.below_rule_of_thumb ? "below" : "" },
+    `Impedance minimum, designed: ${minimum.designed.text}.`,
+    minimum.rule_text,
+    `Sum, as built: ${report.sum_built.text}; designed: ${report.sum_designed.text}.`,
+    `At the crossover: ${report.branches.map((b) => `${b.name} ${b.at_crossover.map((a) => a.text).join(", ")}`).join("; ")}; sum ${report.sum_at_crossover.map((a) => a.text).join(", ")}.`,
+    `Levels relative to ${report.reference_sensitivity_db ?? "—"} dB; band ${report.band.text}.${report.unsolved.count ? ` ${report.unsolved.count} frequencies could not be solved (first: ${report.unsolved.first}).` : ""}`,
+  ]);
+  $("xo-stress-power").textContent = report.stress.power_text;
+  $("xo-amp").textContent = `${report.stress.amplifier_text}: a hazardous voltage at higher powers. Work with the amplifier off.`;
+  $("xo-stress-body").replaceChildren(...report.stress.parts.map((part) =>
+    xoCells(document.createElement("tr"), [part.reference, part.value_text, part.rating_text, `${part.worst_text} at ${part.at_text}`], [2, 3])));
+  xoItems($("xo-drivers"), report.stress.drivers.map((d) => d.text));
+  $("xo-margins").textContent = report.stress.margins_text;
+  $("xo-cautions").replaceChildren(...report.cautions.flatMap((caution) => {
+    const term = document.createElement("dt");
+    term.textContent = caution.title;
+    const text = document.createElement("dd");
+    text.textContent = caution.text;
+    return [term, text];
+  }));
+  $("xo-parts-body").replaceChildren(...report.parts.map((part) =>
+    xoCells(document.createElement("tr"), [part.reference, part.kind, part.ideal_text, part.standard_text, part.dcr_text, part.rating_text], [2, 3, 4, 5])));
+  $("xo-loss-body").replaceChildren(...report.branches.map((b) =>
+    xoCells(document.createElement("tr"), [b.name, `${b.filter}, order ${b.order} ${b.alignment}, ${b.polarity} polarity, into ${b.load_text}`, `${b.deviation_designed.text} / ${b.deviation_built.text}`, b.coil_loss_built.text], [2, 3])));
+  xoItems($("xo-helpers"), report.branches.flatMap((b) => b.helpers.map((h) => `${b.name}: ${h}`)));
+  $("xo-note").textContent = report.note || "";
+  for (const [index, card] of [...$("xo-branches").children].entries()) {
+    const branch = report.branches[index];
+    if (branch) card.querySelector('[data-role="filter"]').textContent = `${branch.name}: ${branch.filter}`;
+  }
+  xoRedraw();
+}
+
+let xoFrameRequested = false;
+function xoRedraw() {
+  if (!xo.ready || xoFrameRequested) return;
+  xoFrameRequested = true;
+  requestAnimationFrame(() => {
+    xoFrameRequested = false;
+    const canvas = $("xo-plot");
+    if ($("xo").hidden || !xo.report) return;
+    const box = $("xo-plot-msg");
+    try {
+      xo.bench.draw(canvas, theme());
+      xo.draws += 1;
+      canvas.dataset.draws = String(xo.draws);
+      box.hidden = true;
+    } catch (error) {
+      box.textContent = `The plots could not be drawn: ${errorText(error)}`;
+      box.hidden = false;
+    }
+  });
+}
+
+// ---- files and the store
+
+async function xoImportCsv(card, event) {
+  const input = event.target;
+  const chosen = input.files && input.files[0];
+  input.value = "";
+  if (!chosen) return;
+  const button = card.querySelector('[data-key="csv"]');
+  if (chosen.size > MAX_FILE_BYTES) return xoFieldError(button, `“${chosen.name}” is ${chosen.size} bytes; an impedance CSV is a small text (up to ${MAX_FILE_BYTES} bytes)`);
+  const text = await chosen.text();
+  try {
+    api.read_impedance_csv(text);
+  } catch (error) {
+    xoClearErrors();
+    return xoFieldError(button, `“${chosen.name}” could not be read: ${errorText(error)}; the driver keeps its previous curve`);
+  }
+  xo.csv[chosen.name] = text;
+  card.dataset.csv = chosen.name;
+  xoCsvStatus(card, chosen.name);
+  xoChange();
+}
+
+async function xoOpenFiles(event) {
+  const input = event.target;
+  const files = [...(input.files || [])];
+  input.value = "";
+  if (!files.length) return;
+  $("xo-file-msg").hidden = true;
+  const keep = " Your crossover is unchanged.";
+  const big = files.find((f) => f.size > MAX_FILE_BYTES);
+  if (big) return xoBar(`“${big.name}” is ${big.size} bytes; this page reads files up to ${MAX_FILE_BYTES} bytes.${keep}`);
+  const json = files.filter((f) => !/\.csv$|\.txt$/i.test(f.name));
+  if (json.length !== 1) return xoBar(`Choose one crossover file (JSON), with the impedance CSVs it names if any; ${json.length} other files were chosen.${keep}`);
+  // The CSVs are read by the core in the role the file gives each (impedance or acoustic
+  // response); a bad row is named with its file, field and line.
+  const csv = { ...xo.csv };
+  for (const f of files.filter((f) => /\.csv$|\.txt$/i.test(f.name))) csv[f.name] = await f.text();
+  try {
+    xoAdopt(await json[0].text(), csv, `Opened “${json[0].name}”.`);
+  } catch (error) {
+    const text = errorText(error).replace(/^field ([^:\s]+): /, "");
+    xoBar(`“${json[0].name}” could not be opened: ${text}. A crossover file is JSON with "format": "bandwright-crossover", "version": 1 (see the README).${keep}`);
+  }
+}
+
+function xoStem() {
+  const name = (xo.file && xo.file.name) || "crossover";
+  return name.normalize("NFKD").replace(/[^A-Za-z0-9._-]+/g, "-").replace(/^-+|-+$/g, "").slice(0, 60) || "crossover";
+}
+
+function xoCsvInUse() {
+  const used = {};
+  for (const branch of xo.file.branches) {
+    for (const name of [branch.driver.measured, branch.acoustic && branch.acoustic.response]) {
+      if (name && xo.csv[name] !== undefined) used[name] = xo.csv[name];
+    }
+  }
+  return used;
+}
+
+function xoSaveFile() {
+  let text;
+  try {
+    text = api.check_crossover(JSON.stringify(xo.file), JSON.stringify(xo.csv));
+  } catch (error) {
+    return xoBar(`Could not save: ${errorText(error)}`);
+  }
+  download(`${xoStem()}.json`, text, "application/json");
+  const named = Object.keys(xoCsvInUse());
+  if (named.length) xoNotice(`Saved. The file names ${named.map((n) => `“${n}”`).join(", ")}: keep ${named.length > 1 ? "them" : "it"} beside it, and choose ${named.length > 1 ? "them" : "it"} with it when you open it.`);
+}
+
+let xoSaveTimer = 0;
+function xoSaveSoon() {
+  clearTimeout(xoSaveTimer);
+  xoSaveTimer = setTimeout(xoSave, 250);
+}
+
+function xoSave() {
+  const workspace = $("app").dataset.workspace === "crossover" ? "crossover" : "filter";
+  const saved = { format: "bandwright-crossover-workspace", version: 1, workspace };
+  if (xo.file) Object.assign(saved, { file: xo.file, csv: xoCsvInUse(), options: xoOptions() });
+  else {
+    // Not opened this visit: keep the crossover the store holds, with the new choice.
+    let before = null;
+    try {
+      before = JSON.parse(localStorage.getItem(XO_STORE_KEY) || "null");
+    } catch {
+      // A corrupt store: only the choice is written.
+    }
+    if (before && before.format === saved.format && before.file) Object.assign(saved, { file: before.file, csv: before.csv, options: before.options });
+  }
+  xoStoreChoice(saved);
+}
+
+function xoStoreChoice(saved) {
+  try {
+    localStorage.setItem(XO_STORE_KEY, JSON.stringify(saved));
+  } catch {
+    // Storage full or refused: the workspace keeps working without autosave.
+  }
+}
+// ================================================================ /crossover workspace
 
 // ---------------------------------------------------------------- go
 

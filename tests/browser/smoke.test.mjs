@@ -9,10 +9,14 @@ import { openApp, ROOT, PAGE_URL } from "./harness.mjs";
 
 // The JS-facing API of bandwright-web (the contract between the bindings and the page).
 const EXPORTS = [
+  "CrossoverBench",
   "Session",
   "TolerancePlanner",
   "cautions",
+  "check_crossover",
   "check_design",
+  "crossover_ways",
+  "demo_crossover",
   "demo_design",
   "demo_request",
   "fit",
@@ -20,6 +24,7 @@ const EXPORTS = [
   "parse_tolerance",
   "parse_value",
   "parts_csv",
+  "read_impedance_csv",
   "schematic",
   "share_decode",
   "share_encode",

@@ -9,7 +9,9 @@
 //! Exports (the contract with web/app.js): `version`, `demo_design`, `demo_request`, `fit`,
 //! `check_design`, `parse_value`, `format_value`, `step_value`, `share_encode`, `share_decode`,
 //! `parts_csv`, `cautions`, `schematic`, `fit_by_yield` and the class `Session`; for tolerance
-//! runs, `parse_tolerance` and the class `TolerancePlanner` (see [`tolerance`]).
+//! runs, `parse_tolerance` and the class `TolerancePlanner` (see [`tolerance`]); for the
+//! crossover workspace (module [`crossover`]) `demo_crossover`, `check_crossover`,
+//! `crossover_ways`, `read_impedance_csv` and the class `CrossoverBench`.
 //!
 //! Everything but the canvas is plain Rust and unit-tested natively (`cargo test -p
 //! bandwright-web`); the `#[wasm_bindgen]` wrappers below only convert.
@@ -33,6 +35,8 @@ pub mod canvas;
 pub mod tolerance;
 
 pub mod yield_fit;
+
+pub mod crossover;
 
 use error::WebError;
 use plotters::prelude::IntoDrawingArea;
@@ -293,6 +297,91 @@ impl TolerancePlanner {
     /// The summary (JSON) with the yield against `mask_json` (a spec mask) when given.
     pub fn summarize(&self, mask_json: Option<String>) -> Result<String, JsError> {
         Ok(self.planner.summarize(mask_json.as_deref()).map_err(js)?.to_string())
+    }
+}
+
+// ---------------------------------------------------------------- crossover workspace
+
+/// Returns the demo crossover as `{"file": <crossover file>, "csv": {name: text}}` (our own
+/// scenario, examples/crossover/crossover-2way-lr4.json with its invented impedance CSV).
+#[wasm_bindgen]
+pub fn demo_crossover() -> String {
+    crossover::demo_json()
+}
+
+/// Reads, checks and designs a crossover file with the CSV texts it names (`csv_json`: a JSON
+/// object of name → text); returns the file normalised. Errors about a field start with
+/// `field <path>: `.
+#[wasm_bindgen]
+pub fn check_crossover(file_json: &str, csv_json: &str) -> Result<String, JsError> {
+    crossover::check_crossover(file_json, csv_json).map_err(js)
+}
+
+/// Turns a crossover file into a 2-way or 3-way one (see [`crossover::with_ways`]).
+#[wasm_bindgen]
+pub fn crossover_ways(file_json: &str, ways: u32) -> Result<String, JsError> {
+    crossover::with_ways(file_json, ways).map_err(js)
+}
+
+/// Reads a measured impedance CSV; returns `{points, from_hz, to_hz, text}` or throws an error
+/// naming the line.
+#[wasm_bindgen]
+pub fn read_impedance_csv(text: &str) -> Result<String, JsError> {
+    crossover::read_impedance_csv(text).map_err(js)
+}
+
+/// The crossover workspace's working state: the last crossover that analysed, which it reports
+/// and draws. A crossover that fails keeps the last good one.
+#[wasm_bindgen]
+pub struct CrossoverBench {
+    run: Option<crossover::CrossoverRun>,
+}
+
+#[wasm_bindgen]
+impl CrossoverBench {
+    /// Starts with nothing analysed.
+    #[wasm_bindgen(constructor)]
+    pub fn new() -> CrossoverBench {
+        CrossoverBench { run: None }
+    }
+
+    /// Designs and analyses a crossover file with its CSV texts at `options_json` (`{power,
+    /// from, to, per_decade, capacitors, inductors, resistors}`, each optional); returns the
+    /// report (JSON). On an error the last good crossover stays.
+    pub fn analyse(&mut self, file_json: &str, csv_json: &str, options_json: &str) -> Result<String, JsError> {
+        let run = crossover::run(file_json, csv_json, options_json).map_err(js)?;
+        let report = run.report().to_string();
+        self.run = Some(run);
+        Ok(report)
+    }
+
+    /// Draws the four panels onto `canvas`, crisp at the device pixel ratio.
+    pub fn draw(&self, canvas: &web_sys::HtmlCanvasElement, theme: &str) -> Result<(), JsError> {
+        let theme = chart::theme_named(theme).map_err(js)?;
+        let run = self.current().map_err(js)?;
+        let area = canvas::HidpiCanvas::new(canvas).map_err(js)?.into_drawing_area();
+        run.draw(&area, theme).map_err(js)
+    }
+
+    /// The sweep as CSV (as built): each branch's dB and phase, the sum's, |Z| and its phase.
+    pub fn sweep_csv(&self) -> Result<String, JsError> {
+        Ok(self.current().map_err(js)?.sweep_csv())
+    }
+
+    /// The plot as an SVG document.
+    pub fn plot_svg(&self, width: u32, height: u32, theme: &str) -> Result<String, JsError> {
+        let theme = chart::theme_named(theme).map_err(js)?;
+        self.current().map_err(js)?.svg(width, height, theme).map_err(js)
+    }
+
+    fn current(&self) -> Result<&crossover::CrossoverRun, WebError> {
+        self.run.as_ref().ok_or_else(|| WebError::general("no crossover has been analysed yet"))
+    }
+}
+
+impl Default for CrossoverBench {
+    fn default() -> Self {
+        Self::new()
     }
 }
 
