@@ -22,8 +22,11 @@ use base64::Engine as _;
 use sha2::{Digest, Sha256};
 use std::fmt;
 
+/// A minifier: the source's name and its text in, the minified text or the minifier's message out.
+pub type Minifier<'a> = &'a dyn Fn(&str, &str) -> Result<String, String>;
+
 /// The texts that go into the page.
-#[derive(Debug, Clone, Copy)]
+#[derive(Clone, Copy)]
 pub struct PageSources<'a> {
     /// The HTML template with placeholders.
     pub template: &'a str,
@@ -38,6 +41,10 @@ pub struct PageSources<'a> {
     /// The Web Worker script (web/worker.js), run after the glue in a module worker; `None` for
     /// a page without workers.
     pub worker: Option<&'a str>,
+    /// Minifies a script (given the source's name and its text), or `None` to insert the texts
+    /// as they are. It is applied to the page module and to the glue (after its exports are
+    /// read and removed), so the CSP hashes and the checks see the final text.
+    pub minify: Option<Minifier<'a>>,
 }
 
 /// The id of the element that holds the worker's source text.
@@ -59,6 +66,13 @@ pub struct Page {
 /// Why the page could not be assembled.
 #[derive(Debug, Clone, PartialEq)]
 pub enum PageError {
+    /// The minifier refused a script.
+    Minify {
+        /// Which text.
+        source: &'static str,
+        /// The minifier's message.
+        message: String,
+    },
     /// A placeholder that must appear once appears `count` times.
     Placeholder {
         /// The placeholder text.
@@ -119,6 +133,7 @@ impl fmt::Display for PageError {
             Self::Glue { missing } => {
                 write!(f, "the wasm-bindgen glue has no {missing}; is it the web target's output?")
             }
+            Self::Minify { source, message } => write!(f, "cannot minify {source}: {message}"),
             Self::Charset => {
                 write!(f, "the template must declare <meta charset=\"utf-8\"> (the inline scripts are UTF-8)")
             }
@@ -160,6 +175,17 @@ pub fn assemble(sources: &PageSources) -> Result<Page, PageError> {
     let exports = glue_exports(&glue)?;
     let glue = plain_glue(&glue)?;
     check_app(&app)?;
+    let (glue, app) = match sources.minify {
+        Some(minify) => {
+            let run = |source: &'static str, text: &str| {
+                minify(source, text)
+                    .map(|t| normalise_newlines(&t))
+                    .map_err(|message| PageError::Minify { source, message })
+            };
+            (run("the wasm-bindgen glue", &glue)?, run("web/app.js", &app)?)
+        }
+        None => (glue, app),
+    };
 
     let bootstrap = BOOTSTRAP
         .replace("BANDWRIGHT_EXPORTS", &format!("{{ {} }}", exports.join(", ")))
@@ -354,7 +380,15 @@ mod tests {
         function initSync(module) {}\nexport { initSync, __wbg_init as default };\n";
 
     fn sources<'a>(template: &'a str, app: &'a str, glue: &'a str) -> PageSources<'a> {
-        PageSources { template, style: "body { margin: 0 }", app, glue, wasm_gz_base64: "H4sIAAAA+/=", worker: None }
+        PageSources {
+            template,
+            style: "body { margin: 0 }",
+            app,
+            glue,
+            wasm_gz_base64: "H4sIAAAA+/=",
+            worker: None,
+            minify: None,
+        }
     }
 
     fn check_error(template: &str, app: &str, glue: &str, expected: PageError) {
@@ -392,6 +426,27 @@ mod tests {
         assert_eq!(style, "\nbody { margin: 0 }\n");
         let csp = element(&page.html, "content=\"", "\"");
         assert_eq!(csp, format!("script-src {} {}; style-src {}", csp_hash(check), csp_hash(module), csp_hash(style)));
+    }
+
+    #[test]
+    fn the_minifier_sees_the_plain_glue_and_the_app_and_the_hashes_cover_its_output() {
+        let seen = std::cell::RefCell::new(Vec::new());
+        let minify = |source: &str, text: &str| -> Result<String, String> {
+            seen.borrow_mut().push((source.to_string(), text.contains("export ")));
+            Ok(format!("/*min*/{}", text.replace("    ", "")))
+        };
+        let page =
+            assemble(&PageSources { minify: Some(&minify), ..sources(TEMPLATE, "const shown = 1;", GLUE) }).unwrap();
+        let seen = seen.into_inner();
+        assert_eq!(seen.len(), 2);
+        assert_eq!((seen[0].0.as_str(), seen[0].1), ("the wasm-bindgen glue", false), "exports are gone first");
+        assert_eq!(seen[1].0, "web/app.js");
+        let module = element(&page.html, "<script type=\"module\">", "</script>");
+        assert_eq!(module.matches("/*min*/").count(), 2);
+        assert!(page.html.contains(&csp_hash(module)), "the CSP hashes the minified module");
+        let failing = |_: &str, _: &str| -> Result<String, String> { Err("Unexpected token".into()) };
+        let error = assemble(&PageSources { minify: Some(&failing), ..sources(TEMPLATE, "", GLUE) }).unwrap_err();
+        assert_eq!(error.to_string(), "cannot minify the wasm-bindgen glue: Unexpected token");
     }
 
     #[test]
