@@ -766,11 +766,17 @@ pub fn write_svg(path: &Path, run: &Run, title: &str) -> Result<()> {
     magnitude.push(Series { label: "sum (designed)", f_hz: f, values: &designed_sum_db, style: SeriesStyle::Ideal });
     magnitude.push(Series { label: "sum", f_hz: f, values: &sum_db, style: SeriesStyle::Primary });
     let panels = [
-        Panel { quantity: PlotQuantity::MagnitudeDb, series: magnitude, y_range: Some((-40.0, 10.0)) },
+        Panel {
+            quantity: PlotQuantity::MagnitudeDb,
+            series: magnitude,
+            y_range: Some((-40.0, 10.0)),
+            regions: Vec::new(),
+        },
         Panel {
             quantity: PlotQuantity::ImpedanceOhm,
             series: vec![Series { label: "", f_hz: f, values: &z, style: SeriesStyle::Primary }],
             y_range: None,
+            regions: Vec::new(),
         },
     ];
     let options = ChartOptions { title: Some(title.to_string()), theme: Theme::Light, ..ChartOptions::default() };

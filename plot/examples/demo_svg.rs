@@ -21,16 +21,19 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
                 curve("asymptote", &data.asymptote_db, SeriesStyle::Ideal),
             ],
             y_range: None,
+            regions: Vec::new(),
         },
         Panel {
             quantity: Quantity::PhaseDeg,
             series: vec![curve("RC low-pass", &data.phase_deg, SeriesStyle::Primary)],
             y_range: Some((-60.0, -20.0)),
+            regions: Vec::new(),
         },
         Panel {
             quantity: Quantity::GroupDelayS,
             series: vec![curve("RC low-pass", &data.group_delay_s, SeriesStyle::Primary)],
             y_range: None,
+            regions: Vec::new(),
         },
     ];
     let options = ChartOptions {

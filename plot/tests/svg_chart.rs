@@ -92,6 +92,7 @@ fn three_panels<'a>(data: &'a common::LowPass) -> Vec<Panel<'a>> {
                 Series { label: "asymptote", f_hz: &data.f_hz, values: &data.asymptote_db, style: SeriesStyle::Ideal },
             ],
             y_range: None,
+            regions: Vec::new(),
         },
         Panel {
             quantity: Quantity::PhaseDeg,
@@ -102,6 +103,7 @@ fn three_panels<'a>(data: &'a common::LowPass) -> Vec<Panel<'a>> {
                 style: SeriesStyle::Primary,
             }],
             y_range: None,
+            regions: Vec::new(),
         },
         Panel {
             quantity: Quantity::GroupDelayS,
@@ -112,6 +114,7 @@ fn three_panels<'a>(data: &'a common::LowPass) -> Vec<Panel<'a>> {
                 style: SeriesStyle::Primary,
             }],
             y_range: None,
+            regions: Vec::new(),
         },
     ]
 }
@@ -244,6 +247,7 @@ fn gaps_break_the_curve() {
         quantity: Quantity::PhaseDeg,
         series: vec![Series { label: "", f_hz: &data.f_hz, values: &data.phase_deg, style: SeriesStyle::Primary }],
         y_range: None,
+        regions: Vec::new(),
     }];
     let (result, svg) = render(&panels, &ChartOptions::default());
     result.unwrap();
@@ -264,6 +268,7 @@ fn impedance_panel_uses_a_log_axis_with_ohm_labels() {
             style: SeriesStyle::Primary,
         }],
         y_range: None,
+        regions: Vec::new(),
     }];
     let options = ChartOptions { theme: Theme::Dark, title: Some("RC input impedance".to_string()), ..audio_band() };
     let (result, svg) = render(&panels, &options);
@@ -296,12 +301,13 @@ fn bad_input_gives_errors_not_panics() {
             quantity: Quantity::ImpedanceOhm,
             series: vec![Series { label: "z", f_hz: &data.f_hz, values, style: SeriesStyle::Primary }],
             y_range,
+            regions: Vec::new(),
         }];
         render(&panels, &ChartOptions::default()).0.unwrap_err()
     };
 
     assert_eq!(render(&[], &ChartOptions::default()).0.unwrap_err(), PlotError::NoPanels);
-    let empty = vec![Panel { quantity: Quantity::MagnitudeDb, series: vec![], y_range: None }];
+    let empty = vec![Panel { quantity: Quantity::MagnitudeDb, series: vec![], y_range: None, regions: Vec::new() }];
     assert!(matches!(
         render(&empty, &ChartOptions::default()).0,
         Err(PlotError::EmptyData { panel_idx: 0, quantity: Quantity::MagnitudeDb })
@@ -338,6 +344,7 @@ fn non_finite_values_are_gaps() {
         quantity: Quantity::MagnitudeDb,
         series: vec![Series { label: "", f_hz: &f_hz, values: &values, style: SeriesStyle::Primary }],
         y_range: None,
+        regions: Vec::new(),
     }];
     let (result, svg) = render(&panels, &ChartOptions::default());
     result.unwrap();
@@ -359,6 +366,7 @@ fn styles_get_their_own_colours_and_primary_is_drawn_last() {
             Series { label: "", f_hz: &data.f_hz, values: &band, style: SeriesStyle::Band },
         ],
         y_range: None,
+        regions: Vec::new(),
     }];
     let (result, svg) = render(&panels, &ChartOptions::default());
     result.unwrap();

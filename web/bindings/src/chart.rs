@@ -4,7 +4,7 @@
 
 use crate::error::WebError;
 use crate::session::{Curves, Workbench};
-use bandwright_plot::{draw_panels, ChartOptions, Panel, PanelLayout, Quantity, Series, Theme};
+use bandwright_plot::{draw_panels, ChartOptions, Panel, PanelLayout, Quantity, Region, Series, Theme};
 use plotters::coord::Shift;
 use plotters::prelude::{DrawingArea, DrawingBackend, IntoDrawingArea, SVGBackend};
 
@@ -27,7 +27,8 @@ pub fn theme_named(name: &str) -> Result<Theme, WebError> {
     }
 }
 
-/// Draws the session's swept tracks onto `area` and returns where the panels went.
+/// Draws the session's swept tracks onto `area` and returns where the panels went; `regions`
+/// (a spec mask's forbidden rectangles) are shaded on the panel of their quantity.
 ///
 /// # Errors
 /// The plot layer's error (for example an area too small for four panels).
@@ -35,6 +36,7 @@ pub fn draw<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     bench: &mut Workbench,
     theme: Theme,
+    regions: &[(Quantity, Region)],
 ) -> Result<PanelLayout, WebError> {
     let grid = bench.grid().frequencies();
     let f_range_hz = (grid[0], grid[grid.len() - 1]);
@@ -53,6 +55,7 @@ pub fn draw<DB: DrawingBackend>(
                 })
                 .collect(),
             y_range: None,
+            regions: regions.iter().filter(|(q, _)| *q == quantity).map(|(_, r)| *r).collect(),
         })
         .collect();
     let options = ChartOptions { f_range_hz: Some(f_range_hz), theme, title: None, cursor_hz: None };
@@ -65,7 +68,13 @@ pub fn draw<DB: DrawingBackend>(
 ///
 /// # Errors
 /// A size outside 1 … [`MAX_SVG_SIDE`], or the plot layer's error.
-pub fn svg(bench: &mut Workbench, width: u32, height: u32, theme: Theme) -> Result<String, WebError> {
+pub fn svg(
+    bench: &mut Workbench,
+    width: u32,
+    height: u32,
+    theme: Theme,
+    regions: &[(Quantity, Region)],
+) -> Result<String, WebError> {
     for (what, side) in [("width", width), ("height", height)] {
         if !(1..=MAX_SVG_SIDE).contains(&side) {
             return Err(WebError::general(format!(
@@ -76,7 +85,7 @@ pub fn svg(bench: &mut Workbench, width: u32, height: u32, theme: Theme) -> Resu
     let mut text = String::new();
     {
         let area = SVGBackend::with_string(&mut text, (width, height)).into_drawing_area();
-        draw(&area, bench, theme)?;
+        draw(&area, bench, theme, regions)?;
     }
     Ok(text)
 }
@@ -103,13 +112,13 @@ mod tests {
     fn svg_export_has_every_panel_and_the_legend() {
         let mut bench = Workbench::new(RC).unwrap();
         bench.keep_variant();
-        let text = svg(&mut bench, 800, 640, Theme::Light).unwrap();
+        let text = svg(&mut bench, 800, 640, Theme::Light, &[]).unwrap();
         assert!(text.starts_with("<svg"), "{}", &text[..40]);
         for label in ["magnitude (dB)", "phase (°)", "group delay (s)", "|Z| (Ω)", "A (working)", "B (kept)"] {
             assert!(text.contains(label), "missing {label}");
         }
-        assert!(svg(&mut bench, 0, 640, Theme::Light).unwrap_err().to_string().contains("width of 0 px"));
-        let small = svg(&mut bench, 120, 80, Theme::Dark).unwrap_err().to_string();
+        assert!(svg(&mut bench, 0, 640, Theme::Light, &[]).unwrap_err().to_string().contains("width of 0 px"));
+        let small = svg(&mut bench, 120, 80, Theme::Dark, &[]).unwrap_err().to_string();
         assert!(small.contains("too small") || small.contains("at least"), "{small}");
     }
 
@@ -119,7 +128,7 @@ mod tests {
         let mut text = String::new();
         let layout = {
             let area = SVGBackend::with_string(&mut text, (800, 640)).into_drawing_area();
-            draw(&area, &mut bench, Theme::Light).unwrap()
+            draw(&area, &mut bench, Theme::Light, &[]).unwrap()
         };
         assert_eq!(layout.panels.len(), 4);
         let grid = bench.grid().frequencies();
