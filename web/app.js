@@ -64,6 +64,9 @@ function start() {
   wireKeepAndShare();
   wireSpread();
   xoWire(); // the crossover workspace
+  wireTime();
+  wireMask();
+  wireFrontEnd();
 
   const restored = restoreWorkspace();
   let link = null;
@@ -162,6 +165,7 @@ function restoreWorkspace() {
     if (variant) keepVariantFrom(variant);
   }
   renderShortlist();
+  restoreExtras(saved);
   notice("Restored the design you were working on.");
   return true;
 }
@@ -193,6 +197,7 @@ function saveWorkspace() {
     ideal: state.ideal,
     variant: state.variant,
     grid: state.grid,
+    ...extrasForSave(),
   };
   try {
     localStorage.setItem(STORE_KEY, JSON.stringify(saved));
@@ -1075,6 +1080,8 @@ function frame() {
   try {
     if (wantSweep) session.sweep();
     session.draw(canvas, theme());
+    drawTimeCard();
+    renderMaskVerdict();
     drawCount += 1;
     // A counter that tests and the measurement script wait on.
     canvas.dataset.draws = String(drawCount);
@@ -1588,7 +1595,8 @@ function refreshReport() {
     }
     body.append(row);
   }
-  $("r-ends").textContent = describeEnds(state.design);
+  // The step figures and the limits' verdict go under the parts, where the column has room.
+  $("r-ends").textContent = [describeEnds(state.design), ...extrasReportLines()].join(" ");
   // A long parts list is set in smaller type, so that the report stays on one page.
   $("report").classList.toggle("many-parts", state.design.elements.length > 5);
   $("r-assumptions").replaceChildren(...assumptions().map((line) => {
@@ -2062,6 +2070,425 @@ function renderSpreadReport() {
     line.textContent = `${item.label}: ${item.text}`;
     return line;
   }));
+}
+
+// ---------------------------------------------------------------- time response, limits, converter input
+// The "In time" card, the "Limits" card (state.mask: the core's SpecMask JSON object or null) and
+// the "Converter input" card. As everywhere here, every figure comes from the wasm exports.
+
+let timeDraws = 0;
+let lastTimeSummary = null;
+let lastMaskReport = null;
+
+/** Shows the slots of `form` whose data-when-<choice> lists the current value of that choice. */
+function showSlots(form, choices) {
+  for (const slot of form.querySelectorAll(".slot")) {
+    const conditions = Object.entries(choices).filter(([key]) => slot.hasAttribute(`data-when-${key}`));
+    if (conditions.length === 0) continue;
+    slot.hidden = !conditions.every(([key, value]) => slot.getAttribute(`data-when-${key}`).split(" ").includes(value));
+  }
+}
+
+/** Whether a control is shown within its form (slots that do not apply are hidden). */
+function shownInForm(form, control) {
+  const hidden = control.closest("[hidden]");
+  return !hidden || !form.contains(hidden);
+}
+
+/** The data-field controls of a form as {field: text or null}; hidden ones are left out. */
+function readFields(form) {
+  const values = {};
+  for (const control of form.querySelectorAll("[data-field]")) {
+    if (!shownInForm(form, control)) continue;
+    const text = control.value.trim();
+    values[control.dataset.field] = text === "" ? null : text;
+  }
+  return values;
+}
+
+function writeFields(form, values) {
+  if (!values || typeof values !== "object") return;
+  for (const control of form.querySelectorAll("[data-field]")) {
+    const value = values[control.dataset.field];
+    if (typeof value !== "string") continue;
+    if (control.tagName === "SELECT" && ![...control.options].some((o) => o.value === value)) continue;
+    control.value = value;
+  }
+}
+
+function clearFormErrors(form, messageId) {
+  for (const control of form.querySelectorAll("[aria-invalid]")) clearFieldError(control);
+  $(messageId).hidden = true;
+  $(messageId).textContent = "";
+}
+
+/** Puts an error at the field it names (`field <name>: ...`) within `form`, else in the box. */
+function showFormError(form, messageId, message, keep) {
+  const { field, text } = splitFieldMessage(message);
+  if (field) {
+    const control = [...form.querySelectorAll(`[data-field="${CSS.escape(field)}"]`)].find((c) => shownInForm(form, c));
+    if (control) {
+      setFieldError(control, `${text}. ${keep}`);
+      return;
+    }
+  }
+  const box = $(messageId);
+  box.textContent = `${field ? `${field.replace(/_/g, " ")}: ${text}` : message}. ${keep}`;
+  box.hidden = false;
+}
+
+function definitionRows(list, rows) {
+  list.replaceChildren();
+  for (const row of rows) {
+    const term = document.createElement("dt");
+    term.textContent = row.label;
+    const text = document.createElement("dd");
+    text.textContent = row.text;
+    list.append(term, text);
+  }
+}
+
+// ---- In time
+
+function wireTime() {
+  const form = $("time-form");
+  form.addEventListener("submit", (event) => {
+    event.preventDefault();
+    applyTimeOptions();
+  });
+  form.addEventListener("change", applyTimeOptions);
+  form.addEventListener("input", (event) => clearFieldError(event.target));
+  const canvas = $("time-plot");
+  canvas.addEventListener("pointermove", (event) => showTimeReadout(event.offsetX, event.offsetY));
+  canvas.addEventListener("pointerdown", (event) => showTimeReadout(event.offsetX, event.offsetY));
+  new ResizeObserver(() => redraw({})).observe(canvas);
+  showTimeSlots();
+}
+
+function showTimeSlots() {
+  showSlots($("time-form"), { time: $("time-kind").value, settle: $("time-settle").value });
+}
+
+/** Gives the session the card's options; false (with the message at its field) when refused. */
+function applyTimeOptions() {
+  const form = $("time-form");
+  clearFormErrors(form, "time-msg");
+  showTimeSlots();
+  try {
+    session.set_time_options(JSON.stringify(readFields(form)));
+  } catch (error) {
+    showFormError(form, "time-msg", errorText(error), "The plot keeps the previous settings");
+    return false;
+  }
+  redraw({ report: true });
+  saveSoon();
+  return true;
+}
+
+function drawTimeCard() {
+  const canvas = $("time-plot");
+  let summary;
+  try {
+    summary = JSON.parse(session.time_summary());
+  } catch (error) {
+    summary = { error: errorText(error), formatted: [] };
+  }
+  lastTimeSummary = summary;
+  const figures = $("time-figures");
+  if (summary.error) {
+    definitionRows(figures, [{ label: "no time response", text: summary.error }]);
+    return;
+  }
+  try {
+    session.draw_time(canvas, theme());
+    timeDraws += 1;
+    canvas.dataset.draws = String(timeDraws);
+  } catch (error) {
+    definitionRows(figures, [{ label: "not drawn", text: errorText(error) }]);
+    return;
+  }
+  const rows = [...summary.formatted];
+  if (summary.variant) {
+    const pick = (label) => (summary.variant.formatted.find((row) => row.label === label) || {}).text;
+    const parts = ["overshoot", "rise 10–90 %", "settling"].map((label) => pick(label) && `${label} ${pick(label)}`).filter(Boolean);
+    if (parts.length) rows.push({ label: "B (kept)", text: parts.join("; ") });
+  }
+  definitionRows(figures, rows);
+}
+
+function showTimeReadout(x, y) {
+  if (!session) return;
+  let reading = null;
+  try {
+    reading = JSON.parse(session.time_readout(x, y));
+  } catch {
+    reading = null;
+  }
+  const out = $("time-readout");
+  if (!reading) {
+    out.textContent = "Off the plot area: move inside it to read values.";
+    return;
+  }
+  const nodes = reading.formatted.map((entry) => {
+    const span = document.createElement("span");
+    if (entry.label === "t") {
+      span.className = "r-f";
+      span.textContent = `t = ${entry.text}`;
+    } else {
+      span.className = "r-item";
+      const key = document.createElement("span");
+      key.className = "r-key";
+      key.textContent = `${entry.label} `;
+      span.append(key, document.createTextNode(entry.text));
+    }
+    return span;
+  });
+  out.replaceChildren(...nodes.flatMap((node, index) => (index ? [document.createTextNode(" "), node] : [node])));
+}
+
+// ---- Limits (spec mask)
+
+function wireMask() {
+  const form = $("mask-form");
+  form.addEventListener("submit", (event) => {
+    event.preventDefault();
+    applyMask();
+  });
+  form.addEventListener("input", (event) => clearFieldError(event.target));
+  $("mask-clear").addEventListener("click", () => {
+    setMask(null);
+    saveSoon();
+  });
+}
+
+function applyMask() {
+  const form = $("mask-form");
+  clearFormErrors(form, "mask-msg");
+  let mask;
+  try {
+    mask = JSON.parse(api.mask_from_form(JSON.stringify(readFields(form))));
+  } catch (error) {
+    showFormError(form, "mask-msg", errorText(error), "The limits are unchanged");
+    return false;
+  }
+  setMask(mask);
+  saveSoon();
+  return true;
+}
+
+/** Sets (or with null clears) the limits drawn on the plots and checked. */
+function setMask(mask) {
+  try {
+    session.set_mask(mask ? JSON.stringify(mask) : null);
+  } catch (error) {
+    showFormError($("mask-form"), "mask-msg", errorText(error), "The limits are unchanged");
+    return;
+  }
+  state.mask = mask;
+  $("mask-clear").disabled = !mask;
+  renderMaskOrders();
+  redraw({ report: true });
+}
+
+function renderMaskOrders() {
+  const table = $("mask-orders");
+  const body = $("mask-orders-body");
+  const note = $("mask-orders-msg");
+  body.replaceChildren();
+  note.textContent = "";
+  note.classList.remove("msg");
+  table.hidden = true;
+  if (!state.mask) return;
+  let orders;
+  try {
+    orders = JSON.parse(api.mask_orders(JSON.stringify(state.mask)));
+  } catch (error) {
+    note.textContent = errorText(error);
+    note.classList.add("msg");
+    return;
+  }
+  for (const entry of orders.met) {
+    const row = document.createElement("tr");
+    for (const text of [entry.label, String(entry.order), entry.cutoff_text, entry.margin_text]) {
+      const cell = document.createElement("td");
+      cell.textContent = text;
+      row.append(cell);
+    }
+    const use = document.createElement("td");
+    const button = document.createElement("button");
+    button.type = "button";
+    button.className = "use-order";
+    button.textContent = "Use";
+    button.title = `Put ${entry.label} of order ${entry.order} at ${entry.cutoff_text} into the requirement`;
+    button.addEventListener("click", () => useOrder(entry));
+    use.append(button);
+    row.append(use);
+    body.append(row);
+  }
+  table.hidden = orders.met.length === 0;
+  if (orders.none_met) {
+    note.textContent = orders.message;
+    note.classList.add("msg");
+  } else if (orders.unmet.length) {
+    note.textContent = `Not within order 8: ${orders.unmet.map((u) => `${u.alignment} (closest order ${u.closest_order})`).join(", ")}.`;
+  }
+}
+
+function useOrder(entry) {
+  clearAskErrors();
+  writeRequest(entry.request);
+  saveSoon();
+  notice(`Put ${entry.label} of order ${entry.order} at ${entry.cutoff_text} into the requirement; “Find parts” fits it.`);
+}
+
+function renderMaskVerdict() {
+  const verdict = $("mask-verdict");
+  const list = $("mask-regions");
+  lastMaskReport = null;
+  if (!state.mask) {
+    verdict.hidden = true;
+    list.replaceChildren();
+    return;
+  }
+  let report;
+  try {
+    report = JSON.parse(session.mask_report());
+  } catch (error) {
+    report = { error: errorText(error), regions: [] };
+  }
+  lastMaskReport = report;
+  verdict.hidden = false;
+  verdict.classList.toggle("pass", report.pass === true);
+  verdict.classList.toggle("fail", report.pass === false);
+  verdict.dataset.verdict = report.verdict || "not checked";
+  verdict.textContent = report.error
+    ? `Not checked: ${report.error}`
+    : `${report.pass ? "Pass" : "Fail"}: the working design ${report.pass ? "stays inside" : "breaks"} the limits; worst: ${report.worst.text}.`;
+  list.replaceChildren(...report.regions.map((region) => {
+    const item = document.createElement("li");
+    item.textContent = region.text;
+    return item;
+  }));
+}
+
+function writeMaskForm(mask) {
+  if (!mask || !mask.band) return;
+  const band = mask.band;
+  const set = (id, value, quantity) => {
+    if (typeof value === "number") $(id).value = formatShort(value, quantity);
+  };
+  if ([...$("mask-response").options].some((o) => o.value === band.response)) $("mask-response").value = band.response;
+  set("mask-pass", band.passband_edge_hz, "frequency");
+  set("mask-stop", band.stopband_edge_hz, "frequency");
+  set("mask-loss", mask.max_passband_loss_db, "ratio");
+  set("mask-atten", mask.min_stopband_attenuation_db, "ratio");
+  $("mask-delay").value = typeof mask.max_group_delay_variation_s === "number" ? formatShort(mask.max_group_delay_variation_s, "time") : "";
+}
+
+// ---- Converter input (anti-aliasing front end)
+
+function wireFrontEnd() {
+  for (const id of ["fe-resistors", "fe-capacitors"]) for (const name of SERIES) $(id).append(new Option(name, name));
+  writeFields($("fe-form"), JSON.parse(api.front_end_demo()));
+  const form = $("fe-form");
+  form.addEventListener("submit", (event) => {
+    event.preventDefault();
+    planFrontEnd();
+  });
+  form.addEventListener("change", () => {
+    showSlots(form, { rule: $("fe-rule").value });
+    saveSoon();
+  });
+  form.addEventListener("input", (event) => clearFieldError(event.target));
+  $("fe-fit").addEventListener("click", fitFrontEnd);
+  showSlots(form, { rule: $("fe-rule").value });
+}
+
+let frontEndPlan = null;
+function planFrontEnd() {
+  const form = $("fe-form");
+  clearFormErrors(form, "fe-msg");
+  let plan;
+  try {
+    plan = JSON.parse(api.front_end_plan(JSON.stringify(readFields(form))));
+  } catch (error) {
+    frontEndPlan = null;
+    $("fe-fit").disabled = true;
+    $("fe-out").hidden = true;
+    showFormError(form, "fe-msg", errorText(error), "Nothing was planned");
+    return false;
+  }
+  frontEndPlan = plan;
+  const groups = ["requirement", "orders", "recommendation", "parts", "sampling", "noise", "delay"];
+  definitionRows($("fe-rows"), groups.flatMap((group) => plan.rows[group] || []));
+  const items = (texts) => texts.map((text) => {
+    const item = document.createElement("li");
+    item.textContent = text;
+    return item;
+  });
+  $("fe-warnings").replaceChildren(...items(plan.warnings));
+  $("fe-cautions").replaceChildren(...items(plan.cautions));
+  $("fe-out").hidden = false;
+  $("fe-fit").disabled = false;
+  saveSoon();
+  return true;
+}
+
+/** Hands the recommendation to the fit flow: into the requirement sentence, then "Find parts". */
+function fitFrontEnd() {
+  if (!frontEndPlan) return;
+  clearAskErrors();
+  writeRequest(frontEndPlan.fit_request);
+  if (findParts()) $("ask-title").scrollIntoView({ block: "start" });
+}
+
+// ---- their part of the workspace and the report
+
+function extrasForSave() {
+  return {
+    mask: state.mask,
+    mask_form: readFields($("mask-form")),
+    time_options: readFields($("time-form")),
+    front_end: readFields($("fe-form")),
+  };
+}
+
+function restoreExtras(saved) {
+  if (!saved) return;
+  if (saved.time_options) {
+    writeFields($("time-form"), saved.time_options);
+    showTimeSlots();
+    if (!applyTimeOptions()) writeFields($("time-form"), {});
+  }
+  if (saved.front_end) {
+    writeFields($("fe-form"), saved.front_end);
+    showSlots($("fe-form"), { rule: $("fe-rule").value });
+  }
+  if (saved.mask_form) writeFields($("mask-form"), saved.mask_form);
+  if (saved.mask) {
+    let mask = null;
+    try {
+      mask = JSON.parse(api.check_mask(JSON.stringify(saved.mask)));
+    } catch (error) {
+      notice(`The saved limits could not be read (${errorText(error)}); they are cleared.`);
+    }
+    if (mask) {
+      if (!saved.mask_form) writeMaskForm(mask);
+      setMask(mask);
+    }
+  }
+}
+
+function extrasReportLines() {
+  const lines = [];
+  if (lastTimeSummary && !lastTimeSummary.error && lastTimeSummary.kind === "step") {
+    const rows = lastTimeSummary.formatted.filter((row) => ["overshoot", "rise 10–90 %", "settling"].includes(row.label));
+    if (rows.length) lines.push(`Step response: ${rows.map((row) => `${row.label} ${row.text}`).join("; ")}.`);
+  }
+  if (state.mask && lastMaskReport && !lastMaskReport.error) {
+    lines.push(`Limits: ${lastMaskReport.pass ? "pass" : "fail"}; worst ${lastMaskReport.worst.text}.`);
+  }
+  return lines;
 }
 
 // ---------------------------------------------------------------- formatting (by the core)

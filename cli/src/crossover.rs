@@ -771,12 +771,14 @@ pub fn write_svg(path: &Path, run: &Run, title: &str) -> Result<()> {
             series: magnitude,
             y_range: Some((-40.0, 10.0)),
             bands: Vec::new(),
+            regions: Vec::new(),
         },
         Panel {
             quantity: PlotQuantity::ImpedanceOhm,
             series: vec![Series { label: "", f_hz: f, values: &z, style: SeriesStyle::Primary }],
             y_range: None,
             bands: Vec::new(),
+            regions: Vec::new(),
         },
     ];
     let options = ChartOptions { title: Some(title.to_string()), theme: Theme::Light, ..ChartOptions::default() };

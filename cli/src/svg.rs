@@ -15,9 +15,27 @@ pub fn write_bode(path: &Path, title: &str, response: &Response) -> Result<()> {
     let tau = response.group_delay_s();
     let series = |values| vec![Series { label: "", f_hz: f, values, style: SeriesStyle::Primary }];
     let panels = [
-        Panel { quantity: Quantity::MagnitudeDb, series: series(&db), y_range: None, bands: Vec::new() },
-        Panel { quantity: Quantity::PhaseDeg, series: series(&phase), y_range: None, bands: Vec::new() },
-        Panel { quantity: Quantity::GroupDelayS, series: series(&tau), y_range: None, bands: Vec::new() },
+        Panel {
+            quantity: Quantity::MagnitudeDb,
+            series: series(&db),
+            y_range: None,
+            bands: Vec::new(),
+            regions: Vec::new(),
+        },
+        Panel {
+            quantity: Quantity::PhaseDeg,
+            series: series(&phase),
+            y_range: None,
+            bands: Vec::new(),
+            regions: Vec::new(),
+        },
+        Panel {
+            quantity: Quantity::GroupDelayS,
+            series: series(&tau),
+            y_range: None,
+            bands: Vec::new(),
+            regions: Vec::new(),
+        },
     ];
     let options = ChartOptions { title: Some(title.to_string()), theme: Theme::Light, ..ChartOptions::default() };
     let backend = SVGBackend::new(path, (900, 780));

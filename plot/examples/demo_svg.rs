@@ -22,18 +22,21 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             ],
             y_range: None,
             bands: Vec::new(),
+            regions: Vec::new(),
         },
         Panel {
             quantity: Quantity::PhaseDeg,
             series: vec![curve("RC low-pass", &data.phase_deg, SeriesStyle::Primary)],
             y_range: Some((-60.0, -20.0)),
             bands: Vec::new(),
+            regions: Vec::new(),
         },
         Panel {
             quantity: Quantity::GroupDelayS,
             series: vec![curve("RC low-pass", &data.group_delay_s, SeriesStyle::Primary)],
             y_range: None,
             bands: Vec::new(),
+            regions: Vec::new(),
         },
     ];
     let options = ChartOptions {

@@ -9,8 +9,8 @@
 //! log10 |Z|. Curves are split into in-range runs by [`crate::clip::split_into_runs`] in
 //! those coordinates before plotters sees them.
 
-use plotters::chart::{ChartBuilder, SeriesLabelPosition};
-use plotters::coord::Shift;
+use plotters::chart::{ChartBuilder, ChartContext, SeriesLabelPosition};
+use plotters::coord::{cartesian::Cartesian2d, Shift};
 use plotters::drawing::{DrawingArea, DrawingAreaErrorKind};
 use plotters::element::{Circle, DashedPathElement, DynElement, IntoDynElement, PathElement, Polygon};
 use plotters::prelude::{DrawingBackend, Rectangle};
@@ -25,6 +25,7 @@ use crate::error::PlotError;
 use crate::layout::{PanelGeometry, PanelLayout};
 use crate::quantity::Quantity;
 use crate::range::{auto_frequency_range, auto_y_range, y_ticks};
+use crate::region::{clip_region, region_colour, Region, REGION_FILL_ALPHA};
 use crate::theme::{Theme, ThemeColours};
 
 /// One curve of a panel: values sampled at frequencies.
@@ -69,6 +70,8 @@ pub struct Panel<'a> {
     /// Shaded bands drawn behind the curves, clipped at the axis ranges; they do not widen the
     /// automatic y range.
     pub bands: Vec<Band<'a>>,
+    /// Forbidden rectangles (a spec mask) shaded behind the curves; see [`crate::region`].
+    pub regions: Vec<Region>,
 }
 
 /// Options that apply to the whole chart.
@@ -355,6 +358,8 @@ fn draw_panel<DB: DrawingBackend>(
         )))
         .map_err(drawing_error)?;
 
+    draw_regions(&mut chart, &panel.regions, x_axis, y_axis, log_y, options.theme)?;
+
     let strokes = series_strokes(&panel.series, colours);
     let band_colour = strokes.first().map_or(colours.series[0], |stroke| stroke.colour);
     draw_bands(&mut chart, panel, band_colour, x_axis, y_axis, log_y)?;
@@ -476,6 +481,31 @@ fn draw_bands<DB: DrawingBackend>(
         let fill = colour.mix(band.style.alpha()).filled();
         let polygons = band_polygons(&x, &to_axis(band.lower), &to_axis(band.upper), x_axis, y_axis);
         chart.draw_series(polygons.into_iter().map(|points| Polygon::new(points, fill))).map_err(drawing_error)?;
+    }
+    Ok(())
+}
+
+/// Shades the forbidden regions (translucent fill, opaque limit line), clipped to the axes.
+fn draw_regions<DB: DrawingBackend>(
+    chart: &mut ChartContext<'_, DB, Cartesian2d<TickedAxis, TickedAxis>>,
+    regions: &[Region],
+    x_axis: (f64, f64),
+    y_axis: (f64, f64),
+    log_y: bool,
+    theme: Theme,
+) -> Result<(), PlotError> {
+    let colour = region_colour(theme);
+    for region in regions {
+        let Some(clipped) = clip_region(region, x_axis, y_axis, log_y) else { continue };
+        let corners = [(clipped.x.0, clipped.y.0), (clipped.x.1, clipped.y.1)];
+        chart
+            .draw_series(std::iter::once(Rectangle::new(corners, colour.mix(REGION_FILL_ALPHA).filled())))
+            .map_err(drawing_error)?;
+        if let Some(y) = clipped.line_y {
+            chart
+                .draw_series(LineSeries::new([(clipped.x.0, y), (clipped.x.1, y)], colour.stroke_width(2)))
+                .map_err(drawing_error)?;
+        }
     }
     Ok(())
 }

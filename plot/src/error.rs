@@ -52,6 +52,8 @@ pub enum PlotError {
     },
     /// The drawing backend reported an error.
     Drawing(String),
+    /// A time chart has no finite sample within its time range.
+    EmptyTimeData,
 }
 
 impl fmt::Display for PlotError {
@@ -81,6 +83,10 @@ impl fmt::Display for PlotError {
             PlotError::Drawing(message) => {
                 write!(f, "drawing failed ({message}): check that the canvas or output is usable")
             }
+            PlotError::EmptyTimeData => write!(
+                f,
+                "the time chart has no finite sample in its time range: give at least one series with a finite value at a time on the axis"
+            ),
         }
     }
 }
@@ -105,6 +111,7 @@ mod tests {
             },
             PlotError::AreaTooSmall { width: 10, height: 10, min_width: 160, min_height: 90 },
             PlotError::Drawing("backend gone".into()),
+            PlotError::EmptyTimeData,
         ];
         for error in errors {
             let text = error.to_string();

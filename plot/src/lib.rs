@@ -4,7 +4,8 @@
 //! share one log-frequency x axis. [`draw_panels`] draws them onto a plotters
 //! `DrawingArea`, which may be a browser canvas, an SVG or bitmap file written by the CLI, or
 //! a mock backend in tests, and returns a [`PanelLayout`] that maps pointer pixels back to
-//! frequency and value.
+//! frequency and value. A panel may shade forbidden [`Region`]s (a spec mask). The time chart
+//! ([`draw_time_chart`]) draws step and impulse responses against a linear time axis.
 //!
 //! Invariants: this crate takes plain slices of numbers, not circuit types, so it does not
 //! depend on the Bandwright core; it opens no files, starts no threads and reads no clock,
@@ -32,6 +33,10 @@ pub mod theme;
 
 pub mod layout;
 
+pub mod region;
+
+pub mod time_chart;
+
 pub mod error;
 
 pub mod chart;
@@ -48,4 +53,6 @@ pub use error::PlotError;
 pub use layout::{PanelGeometry, PanelLayout};
 pub use quantity::Quantity;
 pub use range::auto_y_range;
+pub use region::{region_colour, Region, RegionEdge};
 pub use theme::{Theme, ThemeColours};
+pub use time_chart::{draw_time_chart, TimeChartOptions, TimeLayout, TimeMarker, TimeSeries};

@@ -95,6 +95,7 @@ fn three_panels<'a>(data: &'a common::LowPass) -> Vec<Panel<'a>> {
             ],
             y_range: None,
             bands: Vec::new(),
+            regions: Vec::new(),
         },
         Panel {
             quantity: Quantity::PhaseDeg,
@@ -106,6 +107,7 @@ fn three_panels<'a>(data: &'a common::LowPass) -> Vec<Panel<'a>> {
             }],
             y_range: None,
             bands: Vec::new(),
+            regions: Vec::new(),
         },
         Panel {
             quantity: Quantity::GroupDelayS,
@@ -117,6 +119,7 @@ fn three_panels<'a>(data: &'a common::LowPass) -> Vec<Panel<'a>> {
             }],
             y_range: None,
             bands: Vec::new(),
+            regions: Vec::new(),
         },
     ]
 }
@@ -250,6 +253,7 @@ fn gaps_break_the_curve() {
         series: vec![Series { label: "", f_hz: &data.f_hz, values: &data.phase_deg, style: SeriesStyle::Primary }],
         y_range: None,
         bands: Vec::new(),
+        regions: Vec::new(),
     }];
     let (result, svg) = render(&panels, &ChartOptions::default());
     result.unwrap();
@@ -271,6 +275,7 @@ fn impedance_panel_uses_a_log_axis_with_ohm_labels() {
         }],
         y_range: None,
         bands: Vec::new(),
+        regions: Vec::new(),
     }];
     let options = ChartOptions { theme: Theme::Dark, title: Some("RC input impedance".to_string()), ..audio_band() };
     let (result, svg) = render(&panels, &options);
@@ -304,12 +309,19 @@ fn bad_input_gives_errors_not_panics() {
             series: vec![Series { label: "z", f_hz: &data.f_hz, values, style: SeriesStyle::Primary }],
             y_range,
             bands: Vec::new(),
+            regions: Vec::new(),
         }];
         render(&panels, &ChartOptions::default()).0.unwrap_err()
     };
 
     assert_eq!(render(&[], &ChartOptions::default()).0.unwrap_err(), PlotError::NoPanels);
-    let empty = vec![Panel { quantity: Quantity::MagnitudeDb, series: vec![], y_range: None, bands: Vec::new() }];
+    let empty = vec![Panel {
+        quantity: Quantity::MagnitudeDb,
+        series: vec![],
+        y_range: None,
+        bands: Vec::new(),
+        regions: Vec::new(),
+    }];
     assert!(matches!(
         render(&empty, &ChartOptions::default()).0,
         Err(PlotError::EmptyData { panel_idx: 0, quantity: Quantity::MagnitudeDb })
@@ -347,6 +359,7 @@ fn non_finite_values_are_gaps() {
         series: vec![Series { label: "", f_hz: &f_hz, values: &values, style: SeriesStyle::Primary }],
         y_range: None,
         bands: Vec::new(),
+        regions: Vec::new(),
     }];
     let (result, svg) = render(&panels, &ChartOptions::default());
     result.unwrap();
@@ -369,6 +382,7 @@ fn styles_get_their_own_colours_and_primary_is_drawn_last() {
         ],
         y_range: None,
         bands: Vec::new(),
+        regions: Vec::new(),
     }];
     let (result, svg) = render(&panels, &ChartOptions::default());
     result.unwrap();
@@ -430,6 +444,7 @@ fn bands_are_filled_behind_the_curves_and_clipped_at_the_axes() {
             Band { label: "min … max", f_hz: &data.f_hz, lower: &lower, upper: &upper, style: BandStyle::Outer },
             Band { label: "", f_hz: &data.f_hz, lower: &inner_lo, upper: &inner_hi, style: BandStyle::Inner },
         ],
+        regions: Vec::new(),
     }];
     let (result, svg) = render(&panels, &audio_band());
     let layout = result.expect("chart draws");
@@ -479,6 +494,7 @@ fn a_band_of_the_wrong_length_is_named() {
             upper: &data.magnitude_db,
             style: BandStyle::Outer,
         }],
+        regions: Vec::new(),
     }];
     let error = render(&panels, &ChartOptions::default()).0.unwrap_err();
     assert_eq!(error, PlotError::LengthMismatch { label: "spread".into(), n_frequencies: 11, n_values: 3 });

@@ -4,7 +4,9 @@
 
 use crate::error::WebError;
 use crate::session::{Curves, Workbench};
-use bandwright_plot::{draw_panels, Band, BandStyle, ChartOptions, Panel, PanelLayout, Quantity, Series, Theme};
+use bandwright_plot::{
+    draw_panels, Band, BandStyle, ChartOptions, Panel, PanelLayout, Quantity, Region, Series, Theme,
+};
 use plotters::coord::Shift;
 use plotters::prelude::{DrawingArea, DrawingBackend, IntoDrawingArea, SVGBackend};
 
@@ -27,7 +29,8 @@ pub fn theme_named(name: &str) -> Result<Theme, WebError> {
     }
 }
 
-/// Draws the session's swept tracks onto `area` and returns where the panels went.
+/// Draws the session's swept tracks onto `area` and returns where the panels went; `regions`
+/// (a spec mask's forbidden rectangles) are shaded on the panel of their quantity.
 ///
 /// # Errors
 /// The plot layer's error (for example an area too small for four panels).
@@ -35,6 +38,7 @@ pub fn draw<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     bench: &mut Workbench,
     theme: Theme,
+    regions: &[(Quantity, Region)],
 ) -> Result<PanelLayout, WebError> {
     let grid = bench.grid().frequencies();
     let f_range_hz = (grid[0], grid[grid.len() - 1]);
@@ -56,6 +60,7 @@ pub fn draw<DB: DrawingBackend>(
                 .collect(),
             y_range: None,
             bands: bands.as_ref().map(|b| tolerance_bands(b, quantity)).unwrap_or_default(),
+            regions: regions.iter().filter(|(q, _)| *q == quantity).map(|(_, r)| *r).collect(),
         })
         .collect();
     let options = ChartOptions { f_range_hz: Some(f_range_hz), theme, title: None, cursor_hz: None };
@@ -68,7 +73,13 @@ pub fn draw<DB: DrawingBackend>(
 ///
 /// # Errors
 /// A size outside 1 … [`MAX_SVG_SIDE`], or the plot layer's error.
-pub fn svg(bench: &mut Workbench, width: u32, height: u32, theme: Theme) -> Result<String, WebError> {
+pub fn svg(
+    bench: &mut Workbench,
+    width: u32,
+    height: u32,
+    theme: Theme,
+    regions: &[(Quantity, Region)],
+) -> Result<String, WebError> {
     for (what, side) in [("width", width), ("height", height)] {
         if !(1..=MAX_SVG_SIDE).contains(&side) {
             return Err(WebError::general(format!(
@@ -79,7 +90,7 @@ pub fn svg(bench: &mut Workbench, width: u32, height: u32, theme: Theme) -> Resu
     let mut text = String::new();
     {
         let area = SVGBackend::with_string(&mut text, (width, height)).into_drawing_area();
-        draw(&area, bench, theme)?;
+        draw(&area, bench, theme, regions)?;
     }
     Ok(text)
 }
@@ -129,13 +140,13 @@ mod tests {
     fn svg_export_has_every_panel_and_the_legend() {
         let mut bench = Workbench::new(RC).unwrap();
         bench.keep_variant();
-        let text = svg(&mut bench, 800, 640, Theme::Light).unwrap();
+        let text = svg(&mut bench, 800, 640, Theme::Light, &[]).unwrap();
         assert!(text.starts_with("<svg"), "{}", &text[..40]);
         for label in ["magnitude (dB)", "phase (°)", "group delay (s)", "|Z| (Ω)", "A (working)", "B (kept)"] {
             assert!(text.contains(label), "missing {label}");
         }
-        assert!(svg(&mut bench, 0, 640, Theme::Light).unwrap_err().to_string().contains("width of 0 px"));
-        let small = svg(&mut bench, 120, 80, Theme::Dark).unwrap_err().to_string();
+        assert!(svg(&mut bench, 0, 640, Theme::Light, &[]).unwrap_err().to_string().contains("width of 0 px"));
+        let small = svg(&mut bench, 120, 80, Theme::Dark, &[]).unwrap_err().to_string();
         assert!(small.contains("too small") || small.contains("at least"), "{small}");
     }
 
@@ -145,7 +156,7 @@ mod tests {
         let mut text = String::new();
         let layout = {
             let area = SVGBackend::with_string(&mut text, (800, 640)).into_drawing_area();
-            draw(&area, &mut bench, Theme::Light).unwrap()
+            draw(&area, &mut bench, Theme::Light, &[]).unwrap()
         };
         assert_eq!(layout.panels.len(), 4);
         let grid = bench.grid().frequencies();
@@ -164,12 +175,13 @@ mod tests {
         planner.add_batch(&planner.run_trials(0, 30)).unwrap();
         planner.add_batch(&planner.run_corners()).unwrap();
         let summary = planner.summarize(None).unwrap().to_string();
-        let polygons = |bench: &mut Workbench| svg(bench, 800, 640, Theme::Light).unwrap().matches("<polygon").count();
+        let polygons =
+            |bench: &mut Workbench| svg(bench, 800, 640, Theme::Light, &[]).unwrap().matches("<polygon").count();
         assert_eq!(polygons(&mut bench), 0);
         bench.set_tolerance(Some(&summary)).unwrap();
         assert_eq!(bench.tolerance_state(), crate::tolerance::BandState::Shown);
         // Two bands on each of magnitude, phase and group delay, none on |Z|.
-        let text = svg(&mut bench, 800, 640, Theme::Light).unwrap();
+        let text = svg(&mut bench, 800, 640, Theme::Light, &[]).unwrap();
         assert_eq!(text.matches("<polygon").count(), 6, "{}", &text[..200]);
         assert!(text.contains("spread min…max") && text.contains("spread 5…95 %"));
         // Another value: the bands no longer apply and are not drawn; the old value again: they are.

@@ -653,9 +653,22 @@ impl CrossoverRun {
                 series: magnitude,
                 y_range: Some(MAGNITUDE_RANGE_DB),
                 bands: Vec::new(),
+                regions: Vec::new(),
             },
-            Panel { quantity: PlotQuantity::PhaseDeg, series: phase, y_range: None, bands: Vec::new() },
-            Panel { quantity: PlotQuantity::ImpedanceOhm, series: impedance, y_range: None, bands: Vec::new() },
+            Panel {
+                quantity: PlotQuantity::PhaseDeg,
+                series: phase,
+                y_range: None,
+                bands: Vec::new(),
+                regions: Vec::new(),
+            },
+            Panel {
+                quantity: PlotQuantity::ImpedanceOhm,
+                series: impedance,
+                y_range: None,
+                bands: Vec::new(),
+                regions: Vec::new(),
+            },
             Panel {
                 quantity: PlotQuantity::ImpedancePhaseDeg,
                 series: vec![Series {
@@ -666,6 +679,7 @@ impl CrossoverRun {
                 }],
                 y_range: None,
                 bands: Vec::new(),
+                regions: Vec::new(),
             },
         ]
     }

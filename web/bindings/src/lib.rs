@@ -11,7 +11,11 @@
 //! `parts_csv`, `cautions`, `schematic`, `fit_by_yield` and the class `Session`; for tolerance
 //! runs, `parse_tolerance` and the class `TolerancePlanner` (see [`tolerance`]); for the
 //! crossover workspace (module [`crossover`]) `demo_crossover`, `check_crossover`,
-//! `crossover_ways`, `read_impedance_csv` and the class `CrossoverBench`.
+//! `crossover_ways`, `read_impedance_csv` and the class `CrossoverBench`; for the time-response
+//! card, the spec mask and the converter front end: `mask_from_form`, `check_mask`,
+//! `mask_orders`, `front_end_plan`, `front_end_demo` and the `Session` methods
+//! `set_time_options`, `time_summary`, `draw_time`, `time_readout`, `time_svg`, `set_mask` and
+//! `mask_report`.
 //!
 //! Everything but the canvas is plain Rust and unit-tested natively (`cargo test -p
 //! bandwright-web`); the `#[wasm_bindgen]` wrappers below only convert.
@@ -37,6 +41,13 @@ pub mod tolerance;
 pub mod yield_fit;
 
 pub mod crossover;
+
+// The time-response card, spec masks and the converter front end.
+pub mod time;
+
+pub mod limits;
+
+pub mod front_end;
 
 use error::WebError;
 use plotters::prelude::IntoDrawingArea;
@@ -147,6 +158,12 @@ pub fn schematic(design_json: &str) -> Result<String, JsError> {
 #[wasm_bindgen]
 pub struct Session {
     bench: session::Workbench,
+    /// The time-response card's options, cached responses and layout.
+    time: time::TimeCard,
+    /// The spec mask drawn on the plots and checked, if one is set.
+    mask: Option<bandwright::mask::SpecMask>,
+    /// The last mask check, for the design it was made on.
+    mask_check: Option<(bandwright::Design, limits::MaskCheck)>,
 }
 
 #[wasm_bindgen]
@@ -154,7 +171,12 @@ impl Session {
     /// Starts a session on a design file (JSON).
     #[wasm_bindgen(constructor)]
     pub fn new(design_json: &str) -> Result<Session, JsError> {
-        Ok(Session { bench: session::Workbench::new(design_json).map_err(js)? })
+        Ok(Session {
+            bench: session::Workbench::new(design_json).map_err(js)?,
+            time: time::TimeCard::default(),
+            mask: None,
+            mask_check: None,
+        })
     }
 
     /// Replaces the working design; the ideal and the kept variant stay.
@@ -202,7 +224,8 @@ impl Session {
     pub fn draw(&mut self, canvas: &web_sys::HtmlCanvasElement, theme: &str) -> Result<(), JsError> {
         let theme = chart::theme_named(theme).map_err(js)?;
         let area = canvas::HidpiCanvas::new(canvas).map_err(js)?.into_drawing_area();
-        let layout = chart::draw(&area, &mut self.bench, theme).map_err(js)?;
+        let regions = self.mask_regions();
+        let layout = chart::draw(&area, &mut self.bench, theme, &regions).map_err(js)?;
         self.bench.set_layout(layout);
         Ok(())
     }
@@ -240,8 +263,146 @@ impl Session {
     /// The plot as an SVG document.
     pub fn plot_svg(&mut self, width: u32, height: u32, theme: &str) -> Result<String, JsError> {
         let theme = chart::theme_named(theme).map_err(js)?;
-        chart::svg(&mut self.bench, width, height, theme).map_err(js)
+        let regions = self.mask_regions();
+        chart::svg(&mut self.bench, width, height, theme, &regions).map_err(js)
     }
+
+    // ------------------------------------------------ time-response card
+
+    /// Sets the time-response options (JSON of `time::TimeRequest`: kind, span, points, settle,
+    /// settle_percent, bits); errors name the field and keep the previous options.
+    pub fn set_time_options(&mut self, options_json: &str) -> Result<(), JsError> {
+        self.time.set_options(options_json).map_err(js)
+    }
+
+    /// The step (or impulse) figures of the working design and the kept variant, as JSON.
+    pub fn time_summary(&mut self) -> String {
+        self.time.summary(self.bench.working(), self.bench.variant()).to_string()
+    }
+
+    /// Draws the time response onto `canvas` (HiDPI), "light" or "dark".
+    pub fn draw_time(&mut self, canvas: &web_sys::HtmlCanvasElement, theme: &str) -> Result<(), JsError> {
+        let theme = chart::theme_named(theme).map_err(js)?;
+        let area = canvas::HidpiCanvas::new(canvas).map_err(js)?.into_drawing_area();
+        self.time.draw(&area, self.bench.working(), self.bench.variant(), theme).map_err(js)
+    }
+
+    /// The time readout at a pointer position (CSS px of the last drawn time canvas), or `null`.
+    pub fn time_readout(&self, x_css_px: f64, y_css_px: f64) -> String {
+        self.time.readout(x_css_px, y_css_px).map_or_else(|| "null".to_string(), |v| v.to_string())
+    }
+
+    /// The time response as an SVG document.
+    pub fn time_svg(&mut self, width: u32, height: u32, theme: &str) -> Result<String, JsError> {
+        let theme = chart::theme_named(theme).map_err(js)?;
+        time_svg_of(&mut self.time, &self.bench, width, height, theme).map_err(js)
+    }
+
+    // ------------------------------------------------ spec mask
+
+    /// Sets the spec mask (the core's `SpecMask` JSON) drawn on the plots, or clears it with `null`.
+    pub fn set_mask(&mut self, mask_json: Option<String>) -> Result<(), JsError> {
+        self.mask = mask_json.as_deref().map(limits::read_mask).transpose().map_err(js)?;
+        self.mask_check = None;
+        Ok(())
+    }
+
+    /// The working design checked against the mask, as JSON (`null` without a mask).
+    pub fn mask_report(&mut self) -> String {
+        match self.checked() {
+            Some(check) => limits::report_json(check).to_string(),
+            None => "null".to_string(),
+        }
+    }
+}
+
+impl Session {
+    /// The mask check of the working design, made again only when the design changed.
+    fn checked(&mut self) -> Option<&limits::MaskCheck> {
+        let mask = self.mask.as_ref()?;
+        let working = self.bench.working();
+        if self.mask_check.as_ref().is_none_or(|(design, _)| design != working) {
+            self.mask_check = Some((working.clone(), limits::check_design(mask, working)));
+        }
+        self.mask_check.as_ref().map(|(_, check)| check)
+    }
+
+    fn mask_regions(&mut self) -> Vec<(bandwright_plot::Quantity, bandwright_plot::Region)> {
+        self.checked().map(|check| check.regions.clone()).unwrap_or_default()
+    }
+}
+
+/// The time chart as SVG (behind [`Session::time_svg`]).
+///
+/// # Errors
+/// A size outside 1 … [`chart::MAX_SVG_SIDE`], the core's transient error or the plot layer's.
+pub fn time_svg_of(
+    card: &mut time::TimeCard,
+    bench: &session::Workbench,
+    width: u32,
+    height: u32,
+    theme: bandwright_plot::Theme,
+) -> Result<String, WebError> {
+    for (what, side) in [("width", width), ("height", height)] {
+        if !(1..=chart::MAX_SVG_SIDE).contains(&side) {
+            return Err(WebError::general(format!(
+                "an SVG {what} of {side} px is not accepted; use 1 to {}",
+                chart::MAX_SVG_SIDE
+            )));
+        }
+    }
+    let mut text = String::new();
+    {
+        let area = plotters::prelude::SVGBackend::with_string(&mut text, (width, height)).into_drawing_area();
+        card.draw(&area, bench.working(), bench.variant(), theme)?;
+    }
+    Ok(text)
+}
+
+/// Reads the mask editor's fields (JSON of `limits::MaskForm`) into the core's `SpecMask` JSON.
+/// Errors name the field (`field passband_edge: …`).
+#[wasm_bindgen]
+pub fn mask_from_form(form_json: &str) -> Result<String, JsError> {
+    let form: limits::MaskForm = serde_json::from_str(form_json)
+        .map_err(|e| JsError::new(&format!("the mask fields are not valid JSON: {e}")))?;
+    let mask = form.resolve().map_err(js)?;
+    Ok(serde_json::to_string(&mask).expect("a mask always serializes"))
+}
+
+/// Validates a stored mask (the core's `SpecMask` JSON) and returns it normalised.
+#[wasm_bindgen]
+pub fn check_mask(mask_json: &str) -> Result<String, JsError> {
+    let mask = limits::read_mask(mask_json).map_err(js)?;
+    Ok(serde_json::to_string(&mask).expect("a mask always serializes"))
+}
+
+/// The minimum order per alignment for a mask, with the requirement each puts into the sentence
+/// (see `limits::orders_json`).
+#[wasm_bindgen]
+pub fn mask_orders(mask_json: &str) -> Result<String, JsError> {
+    let mask = limits::read_mask(mask_json).map_err(js)?;
+    Ok(limits::orders_json(&mask).map_err(js)?.to_string())
+}
+
+/// Plans the converter front end from its inputs (JSON of `front_end::FrontEndRequest`): the
+/// core's report, rows to show and the fit request for the fit flow.
+#[wasm_bindgen]
+pub fn front_end_plan(request_json: &str) -> Result<String, JsError> {
+    Ok(front_end::plan_json(request_json).map_err(js)?.to_string())
+}
+
+/// The demo inputs of the front-end panel (JSON).
+#[wasm_bindgen]
+pub fn front_end_demo() -> String {
+    let request = front_end::demo_request();
+    serde_json::json!({
+        "fs": request.fs, "band": request.band, "bits": request.bits, "rule": request.rule,
+        "attenuation": request.attenuation, "alias": request.alias, "droop": request.droop,
+        "source": request.source, "full_scale": request.full_scale, "cs": request.cs,
+        "rsw": request.rsw, "tacq": request.tacq, "realization": request.realization,
+        "resistors": request.resistors, "capacitors": request.capacitors,
+    })
+    .to_string()
 }
 
 // ---------------------------------------------------------------- tolerance runs

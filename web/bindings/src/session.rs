@@ -459,6 +459,11 @@ impl Workbench {
         &self.working.design
     }
 
+    /// The kept variant (B), if any.
+    pub fn variant(&self) -> Option<&Design> {
+        self.variant.as_ref().map(|track| &track.design)
+    }
+
     fn track_mut(&mut self, role: Role) -> Option<&mut Track> {
         match role {
             Role::Working => Some(&mut self.working),
