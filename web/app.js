@@ -2286,6 +2286,7 @@ function setMask(mask) {
   }
   state.mask = mask;
   $("mask-clear").disabled = !mask;
+  updateYieldControls();
   renderMaskOrders();
   redraw({ report: true });
 }
