@@ -1080,8 +1080,6 @@ function frame() {
   try {
     if (wantSweep) session.sweep();
     session.draw(canvas, theme());
-    drawTimeCard();
-    renderMaskVerdict();
     drawCount += 1;
     // A counter that tests and the measurement script wait on.
     canvas.dataset.draws = String(drawCount);
@@ -1102,8 +1100,26 @@ function frame() {
   }
   updateReadout();
   updateSpreadState();
+  secondarySoon();
   if (wantSchematic) renderSchematicSoon();
   if (wantReport) refreshReportSoon();
+}
+
+// The time card and the limits verdict follow the Bode plot a frame later, so that a keystroke
+// repaints the main plots first and typing stays at the display's rate.
+let secondaryRequested = false;
+function secondarySoon() {
+  if (secondaryRequested) return;
+  secondaryRequested = true;
+  requestAnimationFrame(() => {
+    secondaryRequested = false;
+    try {
+      drawTimeCard();
+      renderMaskVerdict();
+    } catch (error) {
+      showPlotProblem(errorText(error));
+    }
+  });
 }
 
 function showPlotProblem(text) {
@@ -1541,7 +1557,7 @@ function assumptions() {
   const lines = [
     `Source: a voltage source${design.source.amplitude !== undefined ? ` of ${formatValue(design.source.amplitude, "voltage")} rms` : ""} behind ${formatValue(design.source.resistance, "resistance")} (0 Ω is ideal).`,
     `Load: ${describeLoad(design) || "none (open output)"}; the output is node “${design.output}”.`,
-    "Parts are ideal apart from the ESR and DCR listed; values are nominal, tolerances are not applied.",
+    "Parts are ideal apart from the ESR and DCR listed; values are nominal; tolerances enter only the spread bands, when a spread has been run.",
     "H = V(output) / EMF of the source; dB = 20·log10|H|; phase unwrapped along the sweep; group delay exact from the differentiated MNA system; |Z_in| seen by the source.",
   ];
   if (state.ideal) lines.push("The dashed curve is the ideal: the same circuit with unrounded values.");
