@@ -80,19 +80,7 @@ pub fn svg(
     theme: Theme,
     regions: &[(Quantity, Region)],
 ) -> Result<String, WebError> {
-    for (what, side) in [("width", width), ("height", height)] {
-        if !(1..=MAX_SVG_SIDE).contains(&side) {
-            return Err(WebError::general(format!(
-                "an SVG {what} of {side} px is not accepted; use 1 to {MAX_SVG_SIDE}"
-            )));
-        }
-    }
-    let mut text = String::new();
-    {
-        let area = SVGBackend::with_string(&mut text, (width, height)).into_drawing_area();
-        draw(&area, bench, theme, regions)?;
-    }
-    Ok(text)
+    svg_document(width, height, |area| draw(area, bench, theme, regions).map(|_| ()))
 }
 
 /// The min/max and percentile bands of a tolerance run on a panel; the legend names them on the
@@ -116,6 +104,31 @@ fn tolerance_bands(bands: &crate::tolerance::ToleranceBands, quantity: Quantity)
             style: BandStyle::Inner,
         },
     ]
+}
+
+/// An SVG document of `width` × `height` pixels drawn by `paint`: the one size check and backend
+/// of every SVG export (the Bode plot, the time chart, the crossover plot).
+///
+/// # Errors
+/// A size outside 1 … [`MAX_SVG_SIDE`], or `paint`'s error.
+pub fn svg_document(
+    width: u32,
+    height: u32,
+    paint: impl FnOnce(&DrawingArea<SVGBackend<'_>, Shift>) -> Result<(), WebError>,
+) -> Result<String, WebError> {
+    for (what, side) in [("width", width), ("height", height)] {
+        if !(1..=MAX_SVG_SIDE).contains(&side) {
+            return Err(WebError::general(format!(
+                "an SVG {what} of {side} px is not accepted; use 1 to {MAX_SVG_SIDE}"
+            )));
+        }
+    }
+    let mut text = String::new();
+    {
+        let area = SVGBackend::with_string(&mut text, (width, height)).into_drawing_area();
+        paint(&area)?;
+    }
+    Ok(text)
 }
 
 fn values_of(curves: &Curves, quantity: Quantity) -> &[Option<f64>] {

@@ -30,7 +30,7 @@ use bandwright::{
 use bandwright_plot::{draw_panels, ChartOptions, Panel, Quantity as PlotQuantity, Series, SeriesStyle, Theme};
 use num_complex::Complex64;
 use plotters::coord::Shift;
-use plotters::prelude::{DrawingArea, DrawingBackend, IntoDrawingArea, SVGBackend};
+use plotters::prelude::{DrawingArea, DrawingBackend};
 use serde_json::{json, Value};
 use std::collections::BTreeMap;
 
@@ -40,9 +40,6 @@ pub const DEMO_FILE: &str = include_str!("../../../examples/crossover/crossover-
 pub const DEMO_CSV_NAME: &str = "demo-tweeter-impedance.csv";
 /// That CSV: invented demo data, not a measurement.
 pub const DEMO_CSV: &str = include_str!("../../../examples/crossover/demo-tweeter-impedance.csv");
-
-/// The largest SVG export, per side, in pixels.
-pub const MAX_SVG_SIDE: u32 = 8192;
 
 /// The magnitude panel's fixed range in dB: the sum and the passbands near 0 dB, the stopbands
 /// down to −40 dB (as the CLI's plot).
@@ -721,21 +718,9 @@ impl CrossoverRun {
     /// The plot as an SVG document of `width` × `height` pixels.
     ///
     /// # Errors
-    /// A size outside 1 … [`MAX_SVG_SIDE`], or the plot layer's error.
+    /// A size outside 1 … [`crate::chart::MAX_SVG_SIDE`], or the plot layer's error.
     pub fn svg(&self, width: u32, height: u32, theme: Theme) -> Result<String, WebError> {
-        for (what, side) in [("width", width), ("height", height)] {
-            if !(1..=MAX_SVG_SIDE).contains(&side) {
-                return Err(WebError::general(format!(
-                    "an SVG {what} of {side} px is not accepted; use 1 to {MAX_SVG_SIDE}"
-                )));
-            }
-        }
-        let mut text = String::new();
-        {
-            let area = SVGBackend::with_string(&mut text, (width, height)).into_drawing_area();
-            self.draw(&area, theme)?;
-        }
-        Ok(text)
+        crate::chart::svg_document(width, height, |area| self.draw(area, theme).map(|_| ()))
     }
 }
 

@@ -343,20 +343,7 @@ pub fn time_svg_of(
     height: u32,
     theme: bandwright_plot::Theme,
 ) -> Result<String, WebError> {
-    for (what, side) in [("width", width), ("height", height)] {
-        if !(1..=chart::MAX_SVG_SIDE).contains(&side) {
-            return Err(WebError::general(format!(
-                "an SVG {what} of {side} px is not accepted; use 1 to {}",
-                chart::MAX_SVG_SIDE
-            )));
-        }
-    }
-    let mut text = String::new();
-    {
-        let area = plotters::prelude::SVGBackend::with_string(&mut text, (width, height)).into_drawing_area();
-        card.draw(&area, bench.working(), bench.variant(), theme)?;
-    }
-    Ok(text)
+    chart::svg_document(width, height, |area| card.draw(area, bench.working(), bench.variant(), theme).map(|_| ()))
 }
 
 /// Reads the mask editor's fields (JSON of `limits::MaskForm`) into the core's `SpecMask` JSON.
