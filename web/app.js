@@ -2042,6 +2042,7 @@ function finishSpread(run, elapsedMs) {
   // A counter that tests wait on.
   $("spread").dataset.runs = String(Number($("spread").dataset.runs || 0) + 1);
   spread.summary.maskProblem = maskProblem;
+  spread.summary.maskKey = JSON.stringify(mask ?? null);
   $("spread-status").textContent = `${run.total} trials on ${run.engine} in ${Math.round(elapsedMs)} ms.`;
   renderSpreadResults();
   redraw({ report: true });
@@ -2060,9 +2061,13 @@ function renderSpreadResults() {
     detail.textContent = item.text;
     return [term, detail];
   }));
-  $("spread-yield").textContent = summary.maskProblem
-    ? `The yield could not be counted against the spec mask: ${summary.maskProblem}.`
-    : text.yield ?? "No spec mask is set, so no yield is counted.";
+  // A yield belongs to the limits it was counted against.
+  const limitsMoved = summary.maskKey !== JSON.stringify(currentMask());
+  $("spread-yield").textContent = limitsMoved
+    ? "The limits changed after this run; run the spread again to count the yield against them."
+    : summary.maskProblem
+      ? `The yield could not be counted against the spec mask: ${summary.maskProblem}.`
+      : text.yield ?? "No spec mask is set, so no yield is counted.";
   updateSpreadState();
 }
 
@@ -2303,6 +2308,7 @@ function setMask(mask) {
   state.mask = mask;
   $("mask-clear").disabled = !mask;
   updateYieldControls();
+  if (spread.summary) renderSpreadResults();
   renderMaskOrders();
   redraw({ report: true });
 }

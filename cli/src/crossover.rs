@@ -314,38 +314,6 @@ fn quantity_of(kind: &str) -> Quantity {
     }
 }
 
-fn rating_text(value: f64, quantity: StressQuantity) -> String {
-    match quantity {
-        StressQuantity::CapacitorVoltage => format!("{} peak", format_quantity(value, Quantity::Voltage, 3)),
-        StressQuantity::InductorCurrent => format!("{} rms", format_quantity(value, Quantity::Current, 3)),
-        StressQuantity::ResistorPower => format_quantity(value, Quantity::Power, 3),
-    }
-}
-
-fn worst_text(value: f64, quantity: StressQuantity) -> String {
-    match quantity {
-        StressQuantity::CapacitorVoltage => format!("{} rms", format_quantity(value, Quantity::Voltage, 4)),
-        StressQuantity::InductorCurrent => format!("{} rms", format_quantity(value, Quantity::Current, 4)),
-        StressQuantity::ResistorPower => format_quantity(value, Quantity::Power, 4),
-    }
-}
-
-fn margin_text(quantity: StressQuantity, margins: &RatingMargins) -> String {
-    match quantity {
-        StressQuantity::CapacitorVoltage => format!("{} × peak (√2 × rms)", margins.capacitor_voltage),
-        StressQuantity::InductorCurrent => format!("{} × rms", margins.inductor_current),
-        StressQuantity::ResistorPower => format!("{} × dissipation", margins.resistor_power),
-    }
-}
-
-fn quantity_name(quantity: StressQuantity) -> &'static str {
-    match quantity {
-        StressQuantity::CapacitorVoltage => "voltage",
-        StressQuantity::InductorCurrent => "current",
-        StressQuantity::ResistorPower => "power",
-    }
-}
-
 /// Renders the run in the chosen format.
 pub fn render(run: &Run, options: &CrossoverOptions) -> String {
     match options.format {
@@ -444,7 +412,7 @@ fn render_table(run: &Run, options: &CrossoverOptions) -> String {
                 .map(|v| format!("{} {}", format_quantity(v, quantity, 3), entry.series))
                 .unwrap_or_else(|| "—".into());
             let dcr = entry.dcr.filter(|d| *d > 0.0).map(ohm).unwrap_or_else(|| "—".into());
-            let rating = entry.minimum_rating.map(|(v, q)| rating_text(v, q)).unwrap_or_else(|| "—".into());
+            let rating = entry.minimum_rating.map(|(v, q)| q.rating_text(v)).unwrap_or_else(|| "—".into());
             let _ = writeln!(
                 out,
                 "  {:<14} {:<10} {:>11} {:>16} {:>10} {:>16}",
@@ -580,11 +548,11 @@ fn render_table(run: &Run, options: &CrossoverOptions) -> String {
             out,
             "  {:<14} {:<8} {:>14} {:>11} {:>16}  {}",
             part.reference,
-            quantity_name(part.quantity),
-            worst_text(part.worst, part.quantity),
+            part.quantity.name(),
+            part.quantity.worst_text(part.worst),
             freq(part.at_hz),
-            rating_text(part.minimum_rating, part.quantity),
-            margin_text(part.quantity, &options.stress.margins)
+            part.quantity.rating_text(part.minimum_rating),
+            part.quantity.margin_text(&options.stress.margins)
         );
     }
     for driver in &stress.drivers {
@@ -668,7 +636,7 @@ fn to_json(run: &Run, options: &CrossoverOptions) -> Value {
                 "amplifier_volts_rms": stress.amplifier_volts_rms,
                 "parts": stress.parts.iter().map(|p| json!({
                     "reference": p.reference,
-                    "figure": quantity_name(p.quantity),
+                    "figure": p.quantity.name(),
                     "worst": p.worst,
                     "worst_unit": match p.quantity { StressQuantity::CapacitorVoltage => "V rms", StressQuantity::InductorCurrent => "A rms", StressQuantity::ResistorPower => "W" },
                     "at_hz": p.at_hz,
@@ -735,7 +703,7 @@ fn to_json(run: &Run, options: &CrossoverOptions) -> Value {
             "standard": p.standard,
             "series": p.series,
             "dcr_ohm": p.dcr,
-            "minimum_rating": p.minimum_rating.map(|(v, q)| json!({"value": v, "unit": q.unit(), "rates": quantity_name(q)})),
+            "minimum_rating": p.minimum_rating.map(|(v, q)| json!({"value": v, "unit": q.unit(), "rates": q.name()})),
         })).collect::<Vec<_>>(),
         "frequency_hz": run.f_hz,
         "designed": analysis_json(&run.ideal),

@@ -105,7 +105,7 @@ impl YieldRankOptions {
                 trials,
                 seed: parse_seed(seed)?,
                 distribution: parse_distribution(distribution)?,
-                by_kind: KindTolerances { resistor: 0.01, capacitor: 0.05, inductor: 0.10 },
+                by_kind: KindTolerances::USUAL,
                 by_part: Vec::new(),
                 band: 0.9,
                 corners: false,

@@ -213,6 +213,50 @@ impl StressQuantity {
             StressQuantity::ResistorPower => "W",
         }
     }
+
+    /// What is rated: "voltage", "current" or "power".
+    pub fn name(self) -> &'static str {
+        match self {
+            StressQuantity::CapacitorVoltage => "voltage",
+            StressQuantity::InductorCurrent => "current",
+            StressQuantity::ResistorPower => "power",
+        }
+    }
+
+    /// A minimum rating as written in a parts list ("84 V peak", "9.1 A rms", "141 W"), or "—"
+    /// when it is not finite.
+    pub fn rating_text(self, value: f64) -> String {
+        self.text(value, 3, "peak")
+    }
+
+    /// A worst figure over the band as measured ("29.59 V rms"), or "—" when it is not finite.
+    pub fn worst_text(self, value: f64) -> String {
+        self.text(value, 4, "rms")
+    }
+
+    /// The margin a rating carries over the worst figure (common practice, see [`RatingMargins`]).
+    pub fn margin_text(self, margins: &RatingMargins) -> String {
+        match self {
+            StressQuantity::CapacitorVoltage => format!("{} × peak (√2 × rms)", margins.capacitor_voltage),
+            StressQuantity::InductorCurrent => format!("{} × rms", margins.inductor_current),
+            StressQuantity::ResistorPower => format!("{} × dissipation", margins.resistor_power),
+        }
+    }
+
+    /// A voltage is rated as a peak and measured as rms; a current is rms both ways.
+    fn text(self, value: f64, digits: usize, voltage_kind: &str) -> String {
+        use crate::notation::{format_quantity, Quantity};
+        if !value.is_finite() {
+            return "—".to_string();
+        }
+        match self {
+            StressQuantity::CapacitorVoltage => {
+                format!("{} {voltage_kind}", format_quantity(value, Quantity::Voltage, digits))
+            }
+            StressQuantity::InductorCurrent => format!("{} rms", format_quantity(value, Quantity::Current, digits)),
+            StressQuantity::ResistorPower => format_quantity(value, Quantity::Power, digits),
+        }
+    }
 }
 
 impl fmt::Display for StressError {

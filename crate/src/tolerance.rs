@@ -83,6 +83,13 @@ pub struct KindTolerances {
     pub inductor: f64,
 }
 
+impl KindTolerances {
+    /// The defaults for parts whose series gives no tolerance: resistors 1 %, capacitors 5 %,
+    /// inductors 10 % (common practice for film resistors, film capacitors and wound coils, from
+    /// memory; a fitted part carries its series' own tolerance instead).
+    pub const USUAL: KindTolerances = KindTolerances { resistor: 0.01, capacitor: 0.05, inductor: 0.10 };
+}
+
 /// What a tolerance run does.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ToleranceOptions {

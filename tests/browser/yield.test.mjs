@@ -75,3 +75,26 @@ test("bad yield options are named at their field and the shortlist stays", async
   await page.waitForSelector("#yield-form", { state: "hidden" });
   assert.deepEqual(app.problems(), { requests: [], consoleErrors: [], pageErrors: [] });
 });
+
+test("a spread's yield says so when the limits change after the run", async () => {
+  const page = app.page;
+  const runs = async () => Number((await page.locator("#spread").getAttribute("data-runs")) ?? 0);
+  let before = await runs();
+  await page.click("#spread-run");
+  await page.waitForFunction((n) => Number(document.getElementById("spread").dataset.runs || 0) > n, before);
+  assert.match(await page.locator("#spread-yield").innerText(), /No spec mask is set/);
+  await typeInto(page, "#mask-pass", "300");
+  await typeInto(page, "#mask-loss", "0.5");
+  await typeInto(page, "#mask-stop", "9k");
+  await typeInto(page, "#mask-atten", "37");
+  await page.click("#mask-apply");
+  await page.waitForFunction(() => /limits changed after this run/.test(document.getElementById("spread-yield").textContent));
+  before = await runs();
+  await page.click("#spread-run");
+  await page.waitForFunction((n) => Number(document.getElementById("spread").dataset.runs || 0) > n, before);
+  const text = await page.locator("#spread-yield").innerText();
+  assert.doesNotMatch(text, /limits changed/);
+  assert.match(text, /\d/, `the yield is counted: ${text}`);
+  assert.deepEqual(app.problems().pageErrors, []);
+  assert.deepEqual(app.problems().consoleErrors, []);
+});

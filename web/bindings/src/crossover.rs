@@ -473,14 +473,14 @@ impl CrossoverRun {
                         let quantity = quantity_of(p.kind);
                         p.standard.map(|v| format_quantity(v, quantity, 3)).unwrap_or_else(|| format_quantity(p.ideal, quantity, 4))
                     }),
-                    "figure": quantity_name(part.quantity),
+                    "figure": part.quantity.name(),
                     "worst": finite(part.worst),
-                    "worst_text": worst_text(part.worst, part.quantity),
+                    "worst_text": part.quantity.worst_text(part.worst),
                     "at_hz": finite(part.at_hz),
                     "at_text": freq(part.at_hz),
                     "minimum_rating": finite(part.minimum_rating),
-                    "rating_text": rating_text(part.minimum_rating, part.quantity),
-                    "margin_text": margin_text(part.quantity, &margins),
+                    "rating_text": part.quantity.rating_text(part.minimum_rating),
+                    "margin_text": part.quantity.margin_text(&margins),
                 })
             })
             .collect();
@@ -499,7 +499,7 @@ impl CrossoverRun {
                     "series": entry.series,
                     "dcr_ohm": entry.dcr.and_then(finite_option),
                     "dcr_text": entry.dcr.filter(|d| *d > 0.0).map(ohm).unwrap_or_else(|| "—".into()),
-                    "rating_text": entry.minimum_rating.map(|(v, q)| rating_text(v, q)).unwrap_or_else(|| "—".into()),
+                    "rating_text": entry.minimum_rating.map(|(v, q)| q.rating_text(v)).unwrap_or_else(|| "—".into()),
                 })
             })
             .collect();
@@ -910,38 +910,6 @@ fn kind_of(quantity: StressQuantity) -> &'static str {
         StressQuantity::CapacitorVoltage => "capacitor",
         StressQuantity::InductorCurrent => "inductor",
         StressQuantity::ResistorPower => "resistor",
-    }
-}
-
-fn quantity_name(quantity: StressQuantity) -> &'static str {
-    match quantity {
-        StressQuantity::CapacitorVoltage => "voltage",
-        StressQuantity::InductorCurrent => "current",
-        StressQuantity::ResistorPower => "power",
-    }
-}
-
-fn rating_text(value: f64, quantity: StressQuantity) -> String {
-    match quantity {
-        StressQuantity::CapacitorVoltage => format!("{} peak", text_of(value, Quantity::Voltage, 3)),
-        StressQuantity::InductorCurrent => format!("{} rms", text_of(value, Quantity::Current, 3)),
-        StressQuantity::ResistorPower => text_of(value, Quantity::Power, 3),
-    }
-}
-
-fn worst_text(value: f64, quantity: StressQuantity) -> String {
-    match quantity {
-        StressQuantity::CapacitorVoltage => format!("{} rms", text_of(value, Quantity::Voltage, 4)),
-        StressQuantity::InductorCurrent => format!("{} rms", text_of(value, Quantity::Current, 4)),
-        StressQuantity::ResistorPower => text_of(value, Quantity::Power, 4),
-    }
-}
-
-fn margin_text(quantity: StressQuantity, margins: &RatingMargins) -> String {
-    match quantity {
-        StressQuantity::CapacitorVoltage => format!("{} × peak (√2 × rms)", margins.capacitor_voltage),
-        StressQuantity::InductorCurrent => format!("{} × rms", margins.inductor_current),
-        StressQuantity::ResistorPower => format!("{} × dissipation", margins.resistor_power),
     }
 }
 

@@ -86,7 +86,7 @@ fn tolerance_options(run: &YieldRun) -> Result<ToleranceOptions, WebError> {
         seed,
         distribution,
         // Fitted parts carry their series' tolerance; these fill in for parts that do not.
-        by_kind: KindTolerances { resistor: 0.01, capacitor: 0.05, inductor: 0.10 },
+        by_kind: KindTolerances::USUAL,
         by_part: Vec::new(),
         band: 0.9,
         corners: false,
