@@ -42,6 +42,19 @@ const state = {
 };
 let session = null;
 let started = false;
+/**
+ * While the page starts, work that the first plot does not need (what sits below it: the parts
+ * table, the circuit drawing, the spread's part list, the safety notes, the converter card's
+ * inputs) waits here and is done in the task after that plot (finishStart), in the order asked.
+ * Null once the page has started. See web/README.md, "Start-up".
+ */
+let startupTasks = new Set();
+
+/** Does `task` now, or right after the first plot while the page starts (once, however often asked). */
+function afterFirstPlot(task) {
+  if (startupTasks) startupTasks.add(task);
+  else task();
+}
 
 performance.mark("bw:app-start");
 
@@ -52,7 +65,7 @@ function start() {
   dark.addEventListener("change", () => redraw({ report: true }));
 
   fillSeriesSelects();
-  fillCautions();
+  afterFirstPlot(fillCautions);
   $("version").textContent = api.version();
   $("r-version").textContent = api.version();
 
@@ -86,8 +99,11 @@ function start() {
   $("starting").hidden = true;
   $("app").hidden = false;
   started = true;
-  // The first plot now, not a frame later; the demo's shortlist and ideal follow in the next task.
+  performance.mark("bw:opened");
+  // The first plot now, not a frame later; what lies below it (afterFirstPlot) follows in the
+  // next task, and the demo's shortlist and ideal in the one after.
   frame();
+  setTimeout(finishStart, 0);
   if (demo) setTimeout(fitDemo, 0);
   new ResizeObserver(() => redraw({})).observe($("plot"));
   window.addEventListener("hashchange", onHashChange);
@@ -95,6 +111,20 @@ function start() {
   window.addEventListener("pagehide", saveWorkspace);
   matchMedia("print").addEventListener("change", (event) => event.matches && refreshReport());
   performance.mark("bw:ready");
+}
+
+/** Does the work that start() left for after the first plot; the mark "bw:started" says it is done. */
+function finishStart() {
+  const tasks = startupTasks;
+  startupTasks = null;
+  try {
+    for (const task of tasks) task();
+  } catch (error) {
+    showStartFailure(error);
+  }
+  // The cards below the plot are laid out from the next frame on (style.css).
+  delete $("app").dataset.starting;
+  performance.mark("bw:started");
 }
 
 function showStartFailure(error) {
@@ -185,7 +215,8 @@ function saveSoon() {
 }
 
 function saveWorkspace() {
-  if (!state.design) return;
+  // Not before the start is finished: the cards below the plot are not filled in yet.
+  if (!state.design || startupTasks) return;
   const saved = {
     format: "bandwright-workspace",
     version: 1,
@@ -289,10 +320,15 @@ function renderDesign() {
   document.title = name ? `${name} · Bandwright` : "Bandwright";
   $("design-note").textContent = state.design.note || "";
   $("design-note").hidden = !state.design.note;
+  markChosen();
+  afterFirstPlot(renderDesignDetails);
+}
+
+/** The parts table, the circuit, the assumptions and the spread's parts of the working design. */
+function renderDesignDetails() {
   renderParts();
   renderSchematic();
   renderAssumptions();
-  markChosen();
   renderSpreadParts();
 }
 
@@ -2411,8 +2447,7 @@ function writeMaskForm(mask) {
 // ---- Converter input (anti-aliasing front end)
 
 function wireFrontEnd() {
-  for (const id of ["fe-resistors", "fe-capacitors"]) for (const name of SERIES) $(id).append(new Option(name, name));
-  writeFields($("fe-form"), JSON.parse(api.front_end_demo()));
+  afterFirstPlot(fillFrontEnd);
   const form = $("fe-form");
   form.addEventListener("submit", (event) => {
     event.preventDefault();
@@ -2424,7 +2459,13 @@ function wireFrontEnd() {
   });
   form.addEventListener("input", (event) => clearFieldError(event.target));
   $("fe-fit").addEventListener("click", fitFrontEnd);
-  showSlots(form, { rule: $("fe-rule").value });
+}
+
+/** The converter card's series and its demo inputs (a saved card is written over them after). */
+function fillFrontEnd() {
+  for (const id of ["fe-resistors", "fe-capacitors"]) for (const name of SERIES) $(id).append(new Option(name, name));
+  writeFields($("fe-form"), JSON.parse(api.front_end_demo()));
+  showSlots($("fe-form"), { rule: $("fe-rule").value });
 }
 
 let frontEndPlan = null;
@@ -2484,8 +2525,11 @@ function restoreExtras(saved) {
     if (!applyTimeOptions()) writeFields($("time-form"), {});
   }
   if (saved.front_end) {
-    writeFields($("fe-form"), saved.front_end);
-    showSlots($("fe-form"), { rule: $("fe-rule").value });
+    // After the card's own demo inputs, which wait for the first plot while the page starts.
+    afterFirstPlot(() => {
+      writeFields($("fe-form"), saved.front_end);
+      showSlots($("fe-form"), { rule: $("fe-rule").value });
+    });
   }
   if (saved.mask_form) writeFields($("mask-form"), saved.mask_form);
   if (saved.mask) {
@@ -3166,5 +3210,6 @@ if (api) {
     start();
   } catch (error) {
     showStartFailure(error);
+    performance.mark("bw:started");
   }
 }

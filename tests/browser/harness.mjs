@@ -129,9 +129,17 @@ export async function openApp(options = {}) {
   return app;
 }
 
-/** Waits until the page's bootstrap has started the wasm and published its exports. */
+/**
+ * Waits until the page's bootstrap has started the wasm and published its exports, and the page
+ * has finished its start (the mark "bw:started": app.js does what lies below the first plot in
+ * the task after it).
+ */
 export async function waitForBandwright(page, timeoutMs = 10_000) {
-  await page.waitForFunction(() => globalThis.bandwright !== undefined, null, { timeout: timeoutMs });
+  await page.waitForFunction(
+    () => globalThis.bandwright !== undefined && performance.getEntriesByName("bw:started").length > 0,
+    null,
+    { timeout: timeoutMs },
+  );
 }
 
 /** Throws a message with the build command when the page file is missing. */
@@ -157,9 +165,13 @@ function watchPage(app, page) {
 
 // ---------------------------------------------------------------- helpers the page tests share
 
-/** Waits until the page has drawn its plot at least once. */
+/** Waits until the page has drawn its plot at least once and finished its start. */
 export async function ready(page) {
-  await page.waitForFunction(() => Number(document.getElementById("plot")?.dataset.draws) > 0, null, { timeout: 15_000 });
+  await page.waitForFunction(
+    () => Number(document.getElementById("plot")?.dataset.draws) > 0 && performance.getEntriesByName("bw:started").length > 0,
+    null,
+    { timeout: 15_000 },
+  );
 }
 
 /** How many times the plot has been drawn (app.js counts them on the canvas). */

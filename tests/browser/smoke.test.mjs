@@ -89,7 +89,9 @@ test("a wasm module that fails to compile gets a message naming the failure, not
   const broken = await openApp({
     waitForApp: false,
     initScript: () => {
+      // The bootstrap compiles as it unpacks (compileStreaming); both ways are refused.
       WebAssembly.compile = () => Promise.reject(new Error("compile refused by this test"));
+      WebAssembly.compileStreaming = () => Promise.reject(new Error("compile refused by this test"));
     },
   });
   try {

@@ -5,7 +5,8 @@
 //! 2. wasm-bindgen through the linked `wasm-bindgen-cli-support` library (web target, no
 //!    TypeScript, name and producers sections removed), so bindgen is exactly the version the
 //!    bindings were compiled against and needs no separate install;
-//! 3. `wasm-opt -Oz` from `web/node_modules` (npm `binaryen`, pinned in web/package-lock.json);
+//! 3. `wasm-opt -Oz` from `web/node_modules` (npm `binaryen`, pinned in web/package-lock.json),
+//!    skipped when its input and arguments are those of the last run (its output is kept);
 //! 4. gzip (zopfli) and base64 of the wasm; the page module and the glue minified by terser from
 //!    `web/node_modules` (npm, pinned; `--no-minify` keeps them as written); the page template
 //!    filled in by [`page::assemble`];
@@ -135,19 +136,31 @@ fn build(root: &Path, options: &BuildOptions) -> Result<()> {
     report("wasm after bindgen", file_size(&bindgen_wasm)?);
 
     let optimised = work_dir.join("bandwright_web.opt.wasm");
+    // wasm-opt takes half a minute; when its input and arguments are those of the last run (a
+    // change to the page only), its last output is used again.
+    let stamp_path = work_dir.join("bandwright_web.opt.input");
+    let mut stamp = std::fs::read(&bindgen_wasm).with_context(|| format!("cannot read {}", bindgen_wasm.display()))?;
+    stamp.extend_from_slice(format!("\n-Oz {} {WASM_OPT_VERSION}", WASM_OPT_FEATURES.join(" ")).as_bytes());
     let step = Instant::now();
-    let status = Command::new(&wasm_opt)
-        .arg("-Oz")
-        .args(WASM_OPT_FEATURES)
-        .arg(&bindgen_wasm)
-        .arg("-o")
-        .arg(&optimised)
-        .status()
-        .with_context(|| format!("cannot run {}", wasm_opt.display()))?;
-    if !status.success() {
-        bail!("wasm-opt failed ({status})");
+    if optimised.exists() && std::fs::read(&stamp_path).is_ok_and(|previous| previous == stamp) {
+        println!("wasm-opt -Oz: skipped, its input is unchanged since the last run");
+    } else {
+        // No stamp while the output is being written, so an interrupted run is never reused.
+        let _ = std::fs::remove_file(&stamp_path);
+        let status = Command::new(&wasm_opt)
+            .arg("-Oz")
+            .args(WASM_OPT_FEATURES)
+            .arg(&bindgen_wasm)
+            .arg("-o")
+            .arg(&optimised)
+            .status()
+            .with_context(|| format!("cannot run {}", wasm_opt.display()))?;
+        if !status.success() {
+            bail!("wasm-opt failed ({status})");
+        }
+        std::fs::write(&stamp_path, &stamp).with_context(|| format!("cannot write {}", stamp_path.display()))?;
+        println!("wasm-opt -Oz: {:.1} s", step.elapsed().as_secs_f64());
     }
-    println!("wasm-opt -Oz: {:.1} s", step.elapsed().as_secs_f64());
     let wasm = std::fs::read(&optimised).with_context(|| format!("cannot read {}", optimised.display()))?;
     report("wasm after wasm-opt", wasm.len());
 
@@ -336,11 +349,12 @@ fn find_terser(root: &Path) -> Result<PathBuf> {
 }
 
 /// Minifies a script (not a module: top-level names stay, so the page's and the glue's names
-/// keep working) with terser's default, safe compress and mangle passes; comments go.
+/// keep working) with terser's default, safe compress and mangle passes; comments go, and
+/// non-ASCII characters are written as `\u` escapes (an all-ASCII page decodes faster).
 fn run_terser(terser: &Path, text: &str) -> Result<String> {
     let mut child = Command::new("node")
         .arg(terser)
-        .args(["--compress", "--mangle", "--comments", "false"])
+        .args(["--compress", "--mangle", "--comments", "false", "--format", "ascii_only=true"])
         .stdin(Stdio::piped())
         .stdout(Stdio::piped())
         .stderr(Stdio::piped())
