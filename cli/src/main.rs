@@ -42,14 +42,14 @@ fn run(cli: args::Cli) -> Result<bool> {
                 svg::write_bode(path, &design.name, &analysis.response)
                     .with_context(|| format!("cannot write the plot to {}", path.display()))?;
             }
-            print!("{}", output::render_sweep(&analysis, options.format));
+            emit(&output::render_sweep(&analysis, options.format));
             Ok(true)
         }
         args::Command::Info(raw) => {
             let options = options::InfoOptions::from_args(raw)?;
             let design = read_design(&options.design)?;
             let analysis = output::Analysis::run(&design, &options.grid)?;
-            print!("{}", output::render_info(&design, &analysis, &options)?);
+            emit(&output::render_info(&design, &analysis, &options)?);
             Ok(true)
         }
         args::Command::Fit(raw) => {
@@ -62,20 +62,20 @@ fn run(cli: args::Cli) -> Result<bool> {
                 std::fs::write(path, best.design.to_json() + "\n")
                     .with_context(|| format!("cannot write the design to {}", path.display()))?;
             }
-            print!("{}", output::render_fit(result, ranked.as_ref(), command.format));
+            emit(&output::render_fit(result, ranked.as_ref(), command.format));
             Ok(true)
         }
         args::Command::Spread(raw) => {
             let options = spread::SpreadOptions::from_args(*raw)?;
             let design = read_design(&options.design)?;
             let run = spread::run(&design, &options)?;
-            print!("{}", spread::render(&run, options.format));
+            emit(&spread::render(&run, options.format));
             Ok(true)
         }
         args::Command::Step(raw) => {
             let options = step::StepOptions::from_args(raw)?;
             let design = read_design(&options.design)?;
-            print!("{}", step::run(&design, &options)?);
+            emit(&step::run(&design, &options)?);
             Ok(true)
         }
         args::Command::Frontend(raw) => {
@@ -85,12 +85,12 @@ fn run(cli: args::Cli) -> Result<bool> {
                 std::fs::write(path, report.design.to_json() + "\n")
                     .with_context(|| format!("cannot write the design to {}", path.display()))?;
             }
-            print!("{}", frontend::render(&report, options.format));
+            emit(&frontend::render(&report, options.format));
             Ok(true)
         }
         args::Command::Mask(raw) => {
             let (text, pass) = limits::run(&raw)?;
-            print!("{text}");
+            emit(&text);
             Ok(pass)
         }
         args::Command::Crossover(raw) => {
@@ -101,11 +101,11 @@ fn run(cli: args::Cli) -> Result<bool> {
                 crossover::write_svg(path, &run, title)
                     .with_context(|| format!("cannot write the plot to {}", path.display()))?;
             }
-            print!("{}", crossover::render(&run, &options));
+            emit(&crossover::render(&run, &options));
             Ok(true)
         }
         args::Command::Cautions => {
-            print!("{}", output::render_cautions());
+            emit(&output::render_cautions());
             Ok(true)
         }
     }
@@ -114,4 +114,16 @@ fn run(cli: args::Cli) -> Result<bool> {
 fn read_design(path: &std::path::Path) -> Result<bandwright::Design> {
     let text = std::fs::read_to_string(path).with_context(|| format!("cannot read design file {}", path.display()))?;
     bandwright::parse_design(&text).with_context(|| format!("{}", path.display()))
+}
+
+/// Writes a command's output to stdout. A reader that stops early (`bandwright … | head`) closes
+/// the pipe; that ends the output quietly instead of as a panic.
+fn emit(text: &str) {
+    use std::io::Write as _;
+    let mut out = std::io::stdout().lock();
+    if let Err(error) = out.write_all(text.as_bytes()).and_then(|()| out.flush()) {
+        if error.kind() != std::io::ErrorKind::BrokenPipe {
+            eprintln!("error: cannot write the output: {error}");
+        }
+    }
 }

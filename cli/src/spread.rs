@@ -7,7 +7,8 @@ use anyhow::{bail, Context, Result};
 use bandwright::mask::SpecMask;
 use bandwright::notation::{format_quantity, parse_value, Quantity};
 use bandwright::tolerance::{
-    Distribution, KindTolerances, MaskYield, Spread, ToleranceOptions, TolerancePlan, ToleranceReport, TrialBatch,
+    Distribution, KindTolerances, MaskYield, Parallel, Spread, ToleranceOptions, TolerancePlan, ToleranceReport,
+    TrialBatch, TrialFold,
 };
 use serde_json::json;
 use std::fmt::Write as _;
@@ -164,15 +165,33 @@ fn parse_threads(text: Option<&str>) -> Result<usize> {
 pub fn run_threaded(plan: &TolerancePlan, trials: usize, threads: usize) -> Vec<TrialBatch> {
     let threads = threads.clamp(1, trials.max(1));
     let chunk = trials.div_ceil(threads);
-    std::thread::scope(|scope| {
-        let handles: Vec<_> = (0..threads)
-            .map(|t| {
-                let range = (t * chunk).min(trials)..((t + 1) * chunk).min(trials);
-                scope.spawn(move || plan.run_trials(range))
-            })
-            .collect();
-        handles.into_iter().map(|h| h.join().expect("a trial thread does not panic")).collect()
-    })
+    Threads(threads).map(threads, &|t| plan.run_trials((t * chunk).min(trials)..((t + 1) * chunk).min(trials)))
+}
+
+/// Runs trials `0..trials` of `plan` folded as they go ([`TolerancePlan::run_folded`]), split
+/// over `threads` threads like [`run_threaded`].
+pub fn run_folded_threaded(plan: &TolerancePlan, trials: usize, threads: usize) -> Vec<TrialFold> {
+    let fold = plan.fold_plan_with(&Threads(threads));
+    let threads = threads.clamp(1, trials.max(1));
+    let chunk = trials.div_ceil(threads);
+    Threads(threads).map(threads, &|t| plan.run_folded(&fold, (t * chunk).min(trials)..((t + 1) * chunk).min(trials)))
+}
+
+/// Runs the library's parallel jobs on this many scoped threads.
+#[derive(Debug, Clone, Copy)]
+pub struct Threads(pub usize);
+
+impl Parallel for Threads {
+    fn width(&self) -> usize {
+        self.0.max(1)
+    }
+
+    fn map<T: Send>(&self, jobs: usize, job: &(dyn Fn(usize) -> T + Sync)) -> Vec<T> {
+        std::thread::scope(|scope| {
+            let handles: Vec<_> = (0..jobs).map(|j| scope.spawn(move || job(j))).collect();
+            handles.into_iter().map(|h| h.join().expect("a worker thread does not panic")).collect()
+        })
+    }
 }
 
 /// The result of a run: the report and the mask yield if a mask was given.
@@ -191,12 +210,17 @@ pub fn run(design: &bandwright::Design, options: &SpreadOptions) -> Result<Sprea
     let (circuit, _) = design.to_circuit()?;
     let grid = options.grid.grid_for(&circuit)?;
     let plan = TolerancePlan::for_design(design, &grid, &options.run)?;
+    let corners = options.run.corners.then(|| plan.run_corners());
+    let Some(mask) = &options.mask else {
+        // No yield to count: each trial is folded into the envelopes as it is solved.
+        let report =
+            plan.summarize_folded(run_folded_threaded(&plan, options.run.trials, options.threads), corners.as_ref());
+        return Ok(SpreadRun { name: design.name.clone(), report, mask_yield: None });
+    };
     let mut batches = run_threaded(&plan, options.run.trials, options.threads);
-    if options.run.corners {
-        batches.push(plan.run_corners());
-    }
-    let report = plan.summarize(&batches);
-    let mask_yield = options.mask.as_ref().map(|mask| plan.mask_yield(&batches, mask)).transpose()?;
+    batches.extend(corners);
+    let report = plan.summarize_with(&batches, &Threads(options.threads));
+    let mask_yield = Some(plan.mask_yield(&batches, mask)?);
     Ok(SpreadRun { name: design.name.clone(), report, mask_yield })
 }
 

@@ -74,6 +74,7 @@ pub mod request;
 pub mod mask;
 
 // Real parts: tolerance bands, solved fast on ladders by series–parallel reduction.
+pub mod lanes;
 pub mod reduction;
 pub mod tolerance;
 pub mod yield_rank;

@@ -26,6 +26,7 @@
 //! any point whose arithmetic overflows) and the caller solves that point by MNA.
 
 use crate::circuit::{Circuit, ElementKind};
+use crate::lanes::{Lane, LaneComplex, LaneDual, LANES};
 use crate::mna::Probe;
 use num_complex::Complex64;
 
@@ -292,6 +293,117 @@ impl Reduction {
         let h = v_out.mul(emf.inv());
         let finite = |z: Complex64| z.re.is_finite() && z.im.is_finite();
         (finite(h.v) && finite(h.d)).then_some((h.v, h.d))
+    }
+
+    /// [`Reduction::solve`] at [`LANES`] angular frequencies at once (rad/s), the same arithmetic
+    /// written lane by lane so that it runs as vector instructions: H in the first result and
+    /// dH/dω in the second, per lane. Nothing is declined here: the caller must treat a lane whose
+    /// ω is not positive and finite, or whose H or H′ is not finite, as [`Reduction::solve`]
+    /// treats a declined point.
+    ///
+    /// # Panics
+    /// If `values` is shorter than the circuit's element list.
+    #[inline(always)]
+    pub fn solve_lanes(&self, omega: &Lane, values: &[f64]) -> (LaneComplex, LaneComplex) {
+        let each = |f: &dyn Fn(usize) -> f64| -> Lane { std::array::from_fn(f) };
+        let mut v = LaneDual::constant(LaneComplex::splat(1.0, 0.0));
+        let mut i = LaneDual::constant(LaneComplex::ZERO);
+        let mut v_out = v;
+        for (k, step) in self.steps.iter().enumerate() {
+            match (&step.shunt_sum, &step.shunt) {
+                (Some(sum), _) => {
+                    // Y = G + jωC and Y′ = jC with G = Σ 1/R and C = Σ C over the shunt's parts.
+                    let (mut g, mut c) = (0.0, 0.0);
+                    for &(capacitor, index) in sum {
+                        if capacitor {
+                            c += values[index];
+                        } else {
+                            g += 1.0 / values[index];
+                        }
+                    }
+                    let y = LaneComplex { re: [g; LANES], im: each(&|j| omega[j] * c) };
+                    // v·Y′ = v·jC.
+                    let v_dy = LaneComplex { re: each(&|j| -v.v.im[j] * c), im: each(&|j| v.v.re[j] * c) };
+                    i.d = i.d.add(v.d.mul(y)).add(v_dy);
+                    i.v = i.v.add(v.v.mul(y));
+                }
+                (None, Some(shunt)) => i = i.add(v.mul(self.admittance_lanes(shunt, omega, values))),
+                (None, None) => {}
+            }
+            if k == self.output_step {
+                v_out = v;
+            }
+            match &step.series {
+                Some(Branch::Leaf(index)) if self.kind[*index] == 2 => {
+                    let (l, r) = (values[*index], self.parasitic[*index]);
+                    let z = LaneComplex { re: [r; LANES], im: each(&|j| omega[j] * l) };
+                    // v′ += jL·i + (r + jωL)·i′; v += (r + jωL)·i.
+                    let jl_i = LaneComplex { re: each(&|j| -l * i.v.im[j]), im: each(&|j| l * i.v.re[j]) };
+                    v.d = v.d.add(jl_i).add(z.mul(i.d));
+                    v.v = v.v.add(z.mul(i.v));
+                }
+                Some(Branch::Leaf(index)) if self.kind[*index] == 0 => {
+                    let r = [values[*index]; LANES];
+                    v.v = v.v.add(i.v.scale(r));
+                    v.d = v.d.add(i.d.scale(r));
+                }
+                Some(series) => v = v.add(self.impedance_lanes(series, omega, values).mul(i)),
+                None => {}
+            }
+        }
+        let emf = v.add(i.scale([self.source_ohms; LANES]));
+        let h = v_out.mul(emf.inv());
+        (h.v, h.d)
+    }
+
+    fn impedance_lanes(&self, branch: &Branch, omega: &Lane, values: &[f64]) -> LaneDual {
+        match branch {
+            Branch::Leaf(index) => {
+                let (value, r) = (values[*index], self.parasitic[*index]);
+                match self.kind[*index] {
+                    0 => LaneDual::constant(LaneComplex::splat(value, 0.0)),
+                    // r + 1/(jωC) = r − j/(ωC); d/dω = j/(ω²C).
+                    1 => LaneDual {
+                        v: LaneComplex { re: [r; LANES], im: std::array::from_fn(|j| -1.0 / (omega[j] * value)) },
+                        d: LaneComplex {
+                            re: [0.0; LANES],
+                            im: std::array::from_fn(|j| 1.0 / (omega[j] * omega[j] * value)),
+                        },
+                    },
+                    // r + jωL; d/dω = jL.
+                    _ => LaneDual {
+                        v: LaneComplex { re: [r; LANES], im: std::array::from_fn(|j| omega[j] * value) },
+                        d: LaneComplex::splat(0.0, value),
+                    },
+                }
+            }
+            Branch::Series(parts) => parts
+                .iter()
+                .map(|p| self.impedance_lanes(p, omega, values))
+                .fold(LaneDual::constant(LaneComplex::ZERO), LaneDual::add),
+            Branch::Parallel(_) => self.admittance_lanes(branch, omega, values).inv(),
+        }
+    }
+
+    fn admittance_lanes(&self, branch: &Branch, omega: &Lane, values: &[f64]) -> LaneDual {
+        match branch {
+            Branch::Leaf(index) if self.kind[*index] == 1 && self.parasitic[*index] == 0.0 => {
+                // An ideal capacitor's admittance jωC, finite at every frequency.
+                let c = values[*index];
+                LaneDual {
+                    v: LaneComplex { re: [0.0; LANES], im: std::array::from_fn(|j| omega[j] * c) },
+                    d: LaneComplex::splat(0.0, c),
+                }
+            }
+            Branch::Leaf(index) if self.kind[*index] == 0 => {
+                LaneDual::constant(LaneComplex::splat(1.0 / values[*index], 0.0))
+            }
+            Branch::Parallel(parts) => parts
+                .iter()
+                .map(|p| self.admittance_lanes(p, omega, values))
+                .fold(LaneDual::constant(LaneComplex::ZERO), LaneDual::add),
+            _ => self.impedance_lanes(branch, omega, values).inv(),
+        }
     }
 
     fn impedance(&self, branch: &Branch, omega: f64, values: &[f64]) -> Dual {

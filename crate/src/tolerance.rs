@@ -39,9 +39,26 @@
 //! ([`AcSystem::pencil`]) and solves it with the banded LU of [`crate::lu`], together with the
 //! exact derivative (G + jωC)·x′ = −jC·x. Either way the group delay is exact, not differenced.
 //! The nominal circuit is solved both ways and compared with the engine's own LU sweep: a plan is
-//! refused if the MNA path disagrees, and the reduction is dropped if it does.
+//! refused if the MNA path disagrees, and the reduction is dropped if it does. The reduction runs
+//! [`crate::lanes::LANES`] frequencies at a time, with a vectorised logarithm and arctangent
+//! ([`crate::lanes`]).
+//!
+//! # Summaries
+//! Per frequency, the envelope's min and max are exact, and its percentiles follow numpy's
+//! linear rule exactly ([`percentile`]). Two ways lead there, with the same report bit for bit:
+//! - keep every trial's response ([`TolerancePlan::run_trials`], needed for a mask yield and for
+//!   carrying trials between Web Workers), then [`TolerancePlan::summarize`];
+//! - fold each trial into per-frequency accumulators as soon as it is solved
+//!   ([`TolerancePlan::fold_plan`], [`TolerancePlan::run_folded`],
+//!   [`TolerancePlan::summarize_folded`]), which keeps a few per cent of the values: those inside
+//!   brackets around each percentile, set from a sample of the trials (Floyd & Rivest's
+//!   selection; see [`brackets_from`]).
+//!
+//! Either way, the work can be cut into jobs for threads through [`Parallel`]; the library itself
+//! never starts a thread.
 
 use crate::circuit::{Circuit, ElementKind};
+use crate::lanes::{self, Lane, LANES};
 use crate::lu::Lu;
 use crate::measure::{measure, Edge, ReferenceKind, HALF_POWER_DB};
 use crate::mna::{AcSystem, Detail, Pencil, Probe};
@@ -55,6 +72,39 @@ use rand_xoshiro::Xoshiro256PlusPlus;
 use std::f64::consts::PI;
 use std::fmt;
 use std::ops::Range;
+
+// Defines `$name`, which runs the method `$here` (marked `#[inline(always)]`) compiled for AVX2
+// where the processor has it (x86-64), and as it is elsewhere: the same IEEE operations four
+// lanes wide instead of two (no fused multiply-add), so the results are identical bit for bit.
+// Everything the method calls on the trial path is `#[inline(always)]` too, so that it lands in
+// the AVX2 copy.
+macro_rules! vectorised {
+    ($(#[$doc:meta])* $vis:vis fn $name:ident / $avx:ident = $here:ident(&self $(, $arg:ident: $ty:ty)*) -> $out:ty) => {
+        $(#[$doc])*
+        $vis fn $name(&self $(, $arg: $ty)*) -> $out {
+            #[cfg(target_arch = "x86_64")]
+            if std::is_x86_feature_detected!("avx2") {
+                // SAFETY: the processor has AVX2, as checked just above, which is all the
+                // function's target feature asks for.
+                return unsafe { self.$avx($($arg),*) };
+            }
+            self.$here($($arg),*)
+        }
+
+        /// The AVX2 copy (see `vectorised!`).
+        ///
+        /// # Safety
+        /// The processor must support AVX2.
+        #[cfg(target_arch = "x86_64")]
+        #[target_feature(enable = "avx2")]
+        unsafe fn $avx(&self $(, $arg: $ty)*) -> $out {
+            self.$here($($arg),*)
+        }
+    };
+}
+
+/// dB per neper of |H|: 20/ln 10 (20·log10|H| = 20/ln 10 · ln|H|).
+const DB_PER_NEPER: f64 = 20.0 / std::f64::consts::LN_10;
 
 /// The most trials one plan accepts.
 pub const MAX_TRIALS: usize = 1_000_000;
@@ -149,6 +199,8 @@ pub struct TolerancePlan {
     options: ToleranceOptions,
     parts: Vec<VariedPart>,
     f_hz: Vec<f64>,
+    /// ln f of each grid frequency.
+    log_f: Vec<f64>,
     nominal: TrialResponse,
     reference: ReferenceKind,
     /// The nominal −3 dB corners (frequency, edge).
@@ -201,6 +253,70 @@ pub struct Envelope {
     pub low: Vec<f64>,
     /// Upper percentile over the trials.
     pub high: Vec<f64>,
+}
+
+impl Envelope {
+    /// A copy of the frequencies `range`.
+    fn part(&self, range: Range<usize>) -> Envelope {
+        Envelope {
+            nominal: self.nominal[range.clone()].to_vec(),
+            min: self.min[range.clone()].to_vec(),
+            max: self.max[range.clone()].to_vec(),
+            low: self.low[range.clone()].to_vec(),
+            high: self.high[range].to_vec(),
+        }
+    }
+
+    /// Writes `part` (made by [`Envelope::part`]) back at `range`.
+    fn place(&mut self, range: Range<usize>, part: Envelope) {
+        self.min[range.clone()].copy_from_slice(&part.min);
+        self.max[range.clone()].copy_from_slice(&part.max);
+        self.low[range.clone()].copy_from_slice(&part.low);
+        self.high[range].copy_from_slice(&part.high);
+    }
+}
+
+/// The three quantities of a trial's response, in envelope order.
+const PICKS: [fn(&TrialResponse) -> &[f64]; 3] = [|r| &r.gain_db, |r| &r.phase_deg, |r| &r.group_delay_s];
+
+/// The brackets a folded run shares among all its parts ([`TolerancePlan::fold_plan`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct FoldPlan {
+    /// Per quantity (gain, phase, delay), per frequency: the ends of the `lo` and `hi` brackets;
+    /// none below [`BRACKET_FROM`] trials, where every value is kept.
+    brackets: Option<[Vec<[f64; 4]>; 3]>,
+}
+
+/// Trials run and folded without keeping their responses ([`TolerancePlan::run_folded`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct TrialFold {
+    /// The trials' range, multipliers, corners and pole Qs (no responses).
+    pub batch: TrialBatch,
+    columns: [ColumnFold; 3],
+}
+
+/// Runs independent jobs, perhaps at once: the adapters run them on threads, while the library
+/// itself never starts one ([`Sequential`] runs them in turn).
+pub trait Parallel {
+    /// How many jobs are worth making (the threads available).
+    fn width(&self) -> usize;
+
+    /// `job(0)`, …, `job(jobs − 1)`, returned in that order.
+    fn map<T: Send>(&self, jobs: usize, job: &(dyn Fn(usize) -> T + Sync)) -> Vec<T>;
+}
+
+/// Runs jobs one after another on the calling thread.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Sequential;
+
+impl Parallel for Sequential {
+    fn width(&self) -> usize {
+        1
+    }
+
+    fn map<T: Send>(&self, jobs: usize, job: &(dyn Fn(usize) -> T + Sync)) -> Vec<T> {
+        (0..jobs).map(job).collect()
+    }
 }
 
 /// The spread of one scalar over the trials.
@@ -501,6 +617,7 @@ impl TolerancePlan {
             probe: probe.clone(),
             options: options.clone(),
             parts,
+            log_f: f_hz.iter().map(|f| f.ln()).collect(),
             f_hz,
             nominal: TrialResponse::empty(0),
             reference: measured.reference.kind,
@@ -573,6 +690,13 @@ impl TolerancePlan {
     /// Runs the Monte Carlo trials in `trials` (a sub-range of 0..options.trials, for splitting a
     /// run among threads or workers).
     pub fn run_trials(&self, trials: Range<usize>) -> TrialBatch {
+        self.run_trials_fast(trials)
+    }
+
+    vectorised!(fn run_trials_fast / run_trials_avx2 = run_trials_here(&self, trials: Range<usize>) -> TrialBatch);
+
+    #[inline(always)]
+    fn run_trials_here(&self, trials: Range<usize>) -> TrialBatch {
         let mut batch = TrialBatch::new(trials.clone());
         for trial in trials {
             let multipliers = self.trial_multipliers(trial);
@@ -601,12 +725,194 @@ impl TolerancePlan {
 
     /// Summarises batches (trials from any split, plus at most one batch of corners).
     pub fn summarize(&self, batches: &[TrialBatch]) -> ToleranceReport {
+        self.summarize_with(batches, &Sequential)
+    }
+
+    /// [`TolerancePlan::summarize`] with the envelopes' work cut by frequency into
+    /// `parallel.width()` jobs that `parallel` may run at once (on threads, natively). The report
+    /// is the same however the work is cut.
+    pub fn summarize_with<P: Parallel>(&self, batches: &[TrialBatch], parallel: &P) -> ToleranceReport {
         let is_trial = |b: &TrialBatch| !b.trials.is_empty();
         let trials: Vec<&TrialResponse> = batches.iter().filter(|b| is_trial(b)).flat_map(|b| &b.responses).collect();
         let corners: Vec<&TrialResponse> = batches.iter().filter(|b| !is_trial(b)).flat_map(|b| &b.responses).collect();
-        let (lo_q, hi_q) = ((1.0 - self.options.band) / 2.0, (1.0 + self.options.band) / 2.0);
-        let envelope = |pick: fn(&TrialResponse) -> &[f64]| {
-            let n = self.f_hz.len();
+        let (lo_q, hi_q) = self.band();
+        let mut envelopes = self.start_envelopes(&corners);
+        let n = self.f_hz.len();
+        let jobs = parallel.width().clamp(1, n.max(1));
+        let range = |j: usize| j * n / jobs..(j + 1) * n / jobs;
+        let parts = parallel.map(jobs, &|j| {
+            std::array::from_fn::<Envelope, 3, _>(|q| {
+                let mut part = envelopes[q].part(range(j));
+                fold_trials(&trials, PICKS[q], range(j), lo_q, hi_q, &mut part);
+                part
+            })
+        });
+        for (j, part) in parts.into_iter().enumerate() {
+            for (env, part) in envelopes.iter_mut().zip(part) {
+                env.place(range(j), part);
+            }
+        }
+        self.assemble(&batches.iter().collect::<Vec<_>>(), trials.len(), corners.len(), envelopes)
+    }
+
+    /// The brackets for a folded run ([`TolerancePlan::run_folded`]) of the plan's trials: from
+    /// [`BRACKET_FROM`] trials on, a sample of 256 trials spread evenly by index is evaluated
+    /// here and each frequency's quantiles are bracketed from it (see [`brackets_from`]).
+    pub fn fold_plan(&self) -> FoldPlan {
+        self.fold_plan_with(&Sequential)
+    }
+
+    /// [`TolerancePlan::fold_plan`] with the sample's trials cut into jobs for `parallel`.
+    pub fn fold_plan_with<P: Parallel>(&self, parallel: &P) -> FoldPlan {
+        let count = self.options.trials;
+        if count < BRACKET_FROM {
+            return FoldPlan { brackets: None };
+        }
+        let stride = count / BRACKET_SAMPLE;
+        let jobs = parallel.width().clamp(1, BRACKET_SAMPLE);
+        let sample: Vec<TrialResponse> = parallel
+            .map(jobs, &|j| {
+                let indices = j * BRACKET_SAMPLE / jobs..(j + 1) * BRACKET_SAMPLE / jobs;
+                self.evaluate_trials(indices.map(|i| i * stride).collect())
+            })
+            .into_iter()
+            .flatten()
+            .collect();
+        let (lo, hi) = self.band();
+        let n = self.f_hz.len();
+        FoldPlan { brackets: Some(PICKS.map(|pick| brackets_from(n, lo, hi, |i| pick(&sample[i])))) }
+    }
+
+    /// Runs the Monte Carlo trials in `trials` like [`TolerancePlan::run_trials`], but folds each
+    /// trial's response into the envelopes' accumulators as soon as it is solved instead of
+    /// keeping it: for large runs where only the summary is wanted (no mask yield, no per-trial
+    /// data), with far less memory. The batch inside keeps each trial's multipliers, corners and
+    /// pole Qs.
+    ///
+    /// On x86-64 processors with AVX2, an AVX2 copy of the loop runs (see `vectorised!`).
+    pub fn run_folded(&self, plan: &FoldPlan, trials: Range<usize>) -> TrialFold {
+        self.run_folded_fast(plan, trials)
+    }
+
+    vectorised!(fn run_folded_fast / run_folded_avx2 = run_folded_here(&self, plan: &FoldPlan, trials: Range<usize>) -> TrialFold);
+
+    vectorised!(fn evaluate_trials / evaluate_trials_avx2 = evaluate_trials_here(&self, indices: Vec<usize>) -> Vec<TrialResponse>);
+
+    #[inline(always)]
+    fn evaluate_trials_here(&self, indices: Vec<usize>) -> Vec<TrialResponse> {
+        indices.into_iter().map(|i| self.evaluate(&self.trial_multipliers(i))).collect()
+    }
+
+    #[inline(always)]
+    fn run_folded_here(&self, plan: &FoldPlan, trials: Range<usize>) -> TrialFold {
+        let n = self.f_hz.len();
+        let mut columns =
+            [0, 1, 2].map(|q| ColumnFold::new(n, plan.brackets.as_ref().map(|b| &b[q][..]), trials.len()));
+        let mut batch = TrialBatch::new(trials.clone());
+        let mut response = TrialResponse::empty(n);
+        for trial in trials {
+            let multipliers = self.trial_multipliers(trial);
+            self.evaluate_into(&multipliers, &mut response);
+            for (fold, pick) in columns.iter_mut().zip(PICKS) {
+                fold.add(pick(&response));
+            }
+            batch.corner_hz.push(self.corners_of(&response));
+            batch.q.push(if self.options.pole_spread {
+                self.pole_q(&multipliers).unwrap_or_default()
+            } else {
+                Vec::new()
+            });
+            batch.multipliers.push(multipliers);
+        }
+        TrialFold { batch, columns }
+    }
+
+    /// Summarises folded trials (from any split, in any order, made with the same [`FoldPlan`]) and the
+    /// corners, if run. The report equals [`TolerancePlan::summarize`] of the same trials run with
+    /// [`TolerancePlan::run_trials`]: where a bracket missed its rank, the trials are solved again
+    /// for that frequency's whole column.
+    pub fn summarize_folded(&self, folds: Vec<TrialFold>, corners: Option<&TrialBatch>) -> ToleranceReport {
+        self.summarize_folded_with(folds, corners, &Sequential)
+    }
+
+    /// [`TolerancePlan::summarize_folded`] with the three quantities' selections as jobs for
+    /// `parallel`.
+    pub fn summarize_folded_with<P: Parallel>(
+        &self,
+        mut folds: Vec<TrialFold>,
+        corners: Option<&TrialBatch>,
+        parallel: &P,
+    ) -> ToleranceReport {
+        // In trial order, so that sums over the trials (means, deviations) are taken in one order.
+        folds.sort_by_key(|f| f.batch.trials.start);
+        let corner_responses: Vec<&TrialResponse> = corners.map(|c| c.responses.iter().collect()).unwrap_or_default();
+        let mut envelopes = self.start_envelopes(&corner_responses);
+        let (lo, hi) = self.band();
+        let mut batches = Vec::with_capacity(folds.len() + 1);
+        let mut merged: Option<[ColumnFold; 3]> = None;
+        for fold in folds {
+            batches.push(fold.batch);
+            match &mut merged {
+                None => merged = Some(fold.columns),
+                Some(all) => {
+                    for (mine, theirs) in all.iter_mut().zip(fold.columns) {
+                        mine.merge(theirs);
+                    }
+                }
+            }
+        }
+        let trials: usize = batches.iter().map(|b| b.corner_hz.len()).sum();
+        if let Some(merged) = merged {
+            let cells = merged.map(|fold| std::sync::Mutex::new(Some(fold)));
+            let finished = parallel.map(3, &|q| {
+                let mut env = envelopes[q].clone();
+                let fold = cells[q].lock().ok().and_then(|mut cell| cell.take());
+                let missed = fold.map_or_else(Vec::new, |fold| fold.finish(lo, hi, &mut env));
+                (env, missed)
+            });
+            let mut missed = Vec::with_capacity(3);
+            for (q, (env, m)) in finished.into_iter().enumerate() {
+                envelopes[q] = env;
+                missed.push(m);
+            }
+            if missed.iter().any(|m| !m.is_empty()) {
+                let mut columns: Vec<Vec<Vec<f64>>> = missed.iter().map(|m| vec![Vec::new(); m.len()]).collect();
+                for batch in &batches {
+                    for multipliers in &batch.multipliers {
+                        let response = self.evaluate(multipliers);
+                        for (q, ks) in missed.iter().enumerate() {
+                            for (c, &k) in ks.iter().enumerate() {
+                                let v = PICKS[q](&response)[k];
+                                if v.is_finite() {
+                                    columns[q][c].push(v);
+                                }
+                            }
+                        }
+                    }
+                }
+                for (q, ks) in missed.iter().enumerate() {
+                    for (c, &k) in ks.iter().enumerate() {
+                        let (low, high) = percentile_pair_by_selection(&mut columns[q][c], lo, hi);
+                        envelopes[q].low[k] = low;
+                        envelopes[q].high[k] = high;
+                    }
+                }
+            }
+        }
+        let corner_count = corner_responses.len();
+        let mut all: Vec<&TrialBatch> = batches.iter().collect();
+        all.extend(corners);
+        self.assemble(&all, trials, corner_count, envelopes)
+    }
+
+    /// The percentile band's ends as fractions.
+    fn band(&self) -> (f64, f64) {
+        ((1.0 - self.options.band) / 2.0, (1.0 + self.options.band) / 2.0)
+    }
+
+    /// The three envelopes with the nominal and the corners folded in.
+    fn start_envelopes(&self, corners: &[&TrialResponse]) -> [Envelope; 3] {
+        PICKS.map(|pick| {
             let nominal = pick(&self.nominal).to_vec();
             let mut env = Envelope {
                 min: nominal.clone(),
@@ -615,50 +921,34 @@ impl TolerancePlan {
                 high: nominal.clone(),
                 nominal,
             };
-            for r in &corners {
+            for r in corners {
                 for (k, &v) in pick(r).iter().enumerate().filter(|(_, v)| v.is_finite()) {
                     env.min[k] = env.min[k].min(v);
                     env.max[k] = env.max[k].max(v);
                 }
             }
-            // Frequency-major copy of the trials, filled a block of trials at a time so that
-            // both the reads and the writes stay in cache.
-            let count = trials.len();
-            let mut by_frequency = vec![0.0; n * count];
-            for (block, chunk) in trials.chunks(64).enumerate() {
-                for k in 0..n {
-                    let row = &mut by_frequency[k * count + block * 64..];
-                    for (t, r) in chunk.iter().enumerate() {
-                        row[t] = pick(r)[k];
-                    }
-                }
-            }
-            for k in 0..n {
-                let column = &mut by_frequency[k * count..(k + 1) * count];
-                let mut finite = 0;
-                for t in 0..count {
-                    let v = column[t];
-                    if v.is_finite() {
-                        env.min[k] = env.min[k].min(v);
-                        env.max[k] = env.max[k].max(v);
-                        column[finite] = v;
-                        finite += 1;
-                    }
-                }
-                if finite > 0 {
-                    let (low, high) = percentile_pair(&mut column[..finite], lo_q, hi_q);
-                    env.low[k] = low;
-                    env.high[k] = high;
-                }
-            }
             env
-        };
+        })
+    }
+
+    /// The report from finished envelopes and the batches' corners and pole Qs (trial batches
+    /// and at most one batch of corners, told apart by an empty trial range).
+    fn assemble(
+        &self,
+        batches: &[&TrialBatch],
+        trials: usize,
+        corners: usize,
+        envelopes: [Envelope; 3],
+    ) -> ToleranceReport {
+        let is_trial = |b: &TrialBatch| !b.trials.is_empty();
+        let (lo_q, hi_q) = self.band();
+        let [gain_db, phase_deg, group_delay_s] = envelopes;
         let spread = |nominal: f64, pick: &dyn Fn(&TrialBatch, usize) -> Option<f64>| {
             let mut values = Vec::new();
             let mut missing = 0;
             let mut corner_values = Vec::new();
             for batch in batches {
-                for i in 0..batch.responses.len() {
+                for i in 0..batch.corner_hz.len() {
                     match pick(batch, i).filter(|v| v.is_finite()) {
                         Some(v) if is_trial(batch) => values.push(v),
                         Some(v) => corner_values.push(v),
@@ -694,8 +984,8 @@ impl TolerancePlan {
             .collect();
         ToleranceReport {
             seed: self.options.seed,
-            trials: trials.len(),
-            corners: corners.len(),
+            trials,
+            corners,
             distribution: self.options.distribution.describe(),
             band: (lo_q, hi_q),
             parts: self
@@ -710,9 +1000,9 @@ impl TolerancePlan {
                 })
                 .collect(),
             f_hz: self.f_hz.clone(),
-            gain_db: envelope(|r| &r.gain_db),
-            phase_deg: envelope(|r| &r.phase_deg),
-            group_delay_s: envelope(|r| &r.group_delay_s),
+            gain_db,
+            phase_deg,
+            group_delay_s,
             corner_hz,
             q,
         }
@@ -776,48 +1066,112 @@ impl TolerancePlan {
     /// Solves the circuit with the given multipliers at every grid frequency: by series–parallel
     /// reduction where the circuit is a ladder ([`crate::reduction`]), and by the MNA pencil
     /// otherwise and at any point the reduction declines.
+    #[inline(always)]
     pub fn evaluate(&self, multipliers: &[f64]) -> TrialResponse {
         let mut response = TrialResponse::empty(self.f_hz.len());
+        self.evaluate_into(multipliers, &mut response);
+        response
+    }
+
+    /// [`TolerancePlan::evaluate`] into `response` (of the grid's length), reusing its storage.
+    #[inline(always)]
+    fn evaluate_into(&self, multipliers: &[f64], response: &mut TrialResponse) {
+        let n = self.f_hz.len();
+        for v in [&mut response.gain_db, &mut response.phase_deg, &mut response.group_delay_s, &mut response.slope_db] {
+            v.clear();
+            v.resize(n, f64::NAN);
+        }
         let mut values: Vec<f64> = self.circuit.elements().iter().map(|e| e.kind.primary_value()).collect();
         for (part, m) in self.parts.iter().zip(multipliers) {
             values[part.element] = part.nominal * m;
         }
         // The MNA path, built only when needed.
         let mut mna: Option<Option<(PencilSolver, Vec<f64>)>> = None;
-        let mut previous_phase: Option<f64> = None;
-        for (k, &f) in self.f_hz.iter().enumerate() {
-            let omega = 2.0 * PI * f;
-            let fast = self.reduction.as_ref().and_then(|r| r.solve(omega, &values));
-            let solved = fast.or_else(|| {
-                let (solver, output) = mna
-                    .get_or_insert_with(|| {
-                        let circuit = self.circuit_with(multipliers);
-                        let system = AcSystem::new(&circuit, &self.probe);
-                        let output = system.functionals().output;
-                        system.pencil().map(|pencil| (PencilSolver::new(&pencil), output))
-                    })
-                    .as_mut()?;
-                solver.solve(omega, output)
-            });
-            let Some((h, dh)) = solved else { continue };
-            let ratio = dh / h;
-            let gain_db = 10.0 * h.norm_sqr().log10();
-            if !(gain_db.is_finite() && ratio.re.is_finite() && ratio.im.is_finite()) {
+        let mut fallback = |omega: f64| {
+            let (solver, output) = mna
+                .get_or_insert_with(|| {
+                    let circuit = self.circuit_with(multipliers);
+                    let system = AcSystem::new(&circuit, &self.probe);
+                    let output = system.functionals().output;
+                    system.pencil().map(|pencil| (PencilSolver::new(&pencil), output))
+                })
+                .as_mut()?;
+            solver.solve(omega, output)
+        };
+        let scalar = |h: Complex64, dh: Complex64| (10.0 * h.norm_sqr().log10(), h.arg().to_degrees(), dh / h);
+        // LANES frequencies at a time (the last block repeats the last frequency), each quantity
+        // computed lane by lane (see `crate::lanes`).
+        for first in (0..n).step_by(LANES) {
+            let omega: Lane = std::array::from_fn(|j| 2.0 * PI * self.f_hz[(first + j).min(n - 1)]);
+            let Some(reduction) = &self.reduction else {
+                for (j, &w) in omega.iter().enumerate().take(n - first) {
+                    if let Some((h, dh)) = fallback(w) {
+                        let (gain, phase, ratio) = scalar(h, dh);
+                        response.store(first + j, w, gain, phase, ratio);
+                    }
+                }
+                continue;
+            };
+            let (h, dh) = reduction.solve_lanes(&omega, &values);
+            let norm = h.norm_sqr();
+            let ln_norm = lanes::ln(norm);
+            let arg = lanes::atan2(h.im, h.re);
+            let inverse: Lane = std::array::from_fn(|j| 1.0 / norm[j]);
+            // H′/H = H′·conj(H)/|H|².
+            let ratio_re: Lane = std::array::from_fn(|j| (dh.re[j] * h.re[j] + dh.im[j] * h.im[j]) * inverse[j]);
+            let ratio_im: Lane = std::array::from_fn(|j| (dh.im[j] * h.re[j] - dh.re[j] * h.im[j]) * inverse[j]);
+            let gain: Lane = std::array::from_fn(|j| DB_PER_NEPER * 0.5 * ln_norm[j]);
+            let phase: Lane = std::array::from_fn(|j| arg[j].to_degrees());
+            let finite = |x: &Lane| x.iter().fold(true, |all, v| all & v.is_finite());
+            let whole = first + LANES <= n
+                && omega[0] > 0.0
+                && finite(&h.re)
+                && finite(&h.im)
+                && finite(&dh.re)
+                && finite(&dh.im)
+                && finite(&gain)
+                && finite(&ratio_re)
+                && finite(&ratio_im);
+            if whole {
+                // The common case: every lane solved and finite.
+                let at = first..first + LANES;
+                response.gain_db[at.clone()].copy_from_slice(&gain);
+                response.phase_deg[at.clone()].copy_from_slice(&phase);
+                response.group_delay_s[at.clone()].copy_from_slice(&ratio_im.map(|r| -r));
+                response.slope_db[at]
+                    .copy_from_slice(&std::array::from_fn::<f64, LANES, _>(|j| DB_PER_NEPER * omega[j] * ratio_re[j]));
                 continue;
             }
-            let mut phase = h.arg().to_degrees();
-            if let Some(prev) = previous_phase {
-                phase += 360.0 * ((prev - phase) / 360.0).round();
+            for j in 0..LANES.min(n - first) {
+                let solved = omega[j] > 0.0
+                    && omega[j].is_finite()
+                    && [h.re[j], h.im[j], dh.re[j], dh.im[j]].iter().all(|x| x.is_finite());
+                if solved {
+                    response.store(first + j, omega[j], gain[j], phase[j], Complex64::new(ratio_re[j], ratio_im[j]));
+                } else if let Some((h, dh)) = fallback(omega[j]) {
+                    let (gain, phase, ratio) = scalar(h, dh);
+                    response.store(first + j, omega[j], gain, phase, ratio);
+                }
             }
-            previous_phase = Some(phase);
-            response.gain_db[k] = gain_db;
-            response.phase_deg[k] = phase;
-            response.group_delay_s[k] = -ratio.im;
-            response.slope_db[k] = 20.0 / std::f64::consts::LN_10 * (omega * ratio).re;
         }
-        response
+        // Unwrap along the grid from the first solved point: add the multiple of 360° that brings
+        // each point within 180° of the previous solved one. The multiple grows by the rounded
+        // difference of the principal values, which keeps the division off the chain from point
+        // to point; it is rounded to nearest by adding and subtracting 1.5·2^52 (exact for
+        // |x| < 2^51, ties to even), which costs no library call.
+        const ROUND: f64 = 6_755_399_441_055_744.0;
+        let (mut previous, mut turns) = (f64::NAN, 0.0);
+        for phase in response.phase_deg.iter_mut().filter(|p| p.is_finite()) {
+            let principal = *phase;
+            if previous.is_finite() {
+                turns += ((previous - principal) * (1.0 / 360.0) + ROUND) - ROUND;
+            }
+            previous = principal;
+            *phase = principal + 360.0 * turns;
+        }
     }
 
+    #[inline(always)]
     fn push(&self, batch: &mut TrialBatch, multipliers: Vec<f64>) {
         let response = self.evaluate(&multipliers);
         batch.corner_hz.push(self.corners_of(&response));
@@ -829,27 +1183,37 @@ impl TolerancePlan {
     /// The −3 dB crossings of `response` nearest each nominal corner, with the nominal's kind of
     /// reference gain.
     fn corners_of(&self, response: &TrialResponse) -> Vec<f64> {
-        let usable: Vec<usize> = (0..self.f_hz.len()).filter(|&k| response.gain_db[k].is_finite()).collect();
-        let (Some(&first), Some(&last)) = (usable.first(), usable.last()) else {
+        let gain = &response.gain_db;
+        let (mut first, mut last, mut peak) = (None, None, f64::NEG_INFINITY);
+        for (k, &g) in gain.iter().enumerate().filter(|(_, g)| g.is_finite()) {
+            first.get_or_insert(k);
+            last = Some(k);
+            peak = peak.max(g);
+        }
+        let (Some(first), Some(last)) = (first, last) else {
             return vec![f64::NAN; self.corners.len()];
         };
-        let peak = usable.iter().map(|&k| response.gain_db[k]).fold(f64::NEG_INFINITY, f64::max);
         let reference = match self.reference {
-            ReferenceKind::LowEnd => response.gain_db[first],
-            ReferenceKind::HighEnd => response.gain_db[last],
+            ReferenceKind::LowEnd => gain[first],
+            ReferenceKind::HighEnd => gain[last],
             ReferenceKind::Peak => peak,
-            ReferenceKind::Ends => response.gain_db[first].max(response.gain_db[last]),
+            ReferenceKind::Ends => gain[first].max(gain[last]),
         };
         let level = reference - HALF_POWER_DB;
         let mut found: Vec<(f64, Edge)> = Vec::new();
-        for pair in usable.windows(2) {
-            let (i, j) = (pair[0], pair[1]);
-            let (y0, y1) = (response.gain_db[i] - level, response.gain_db[j] - level);
+        let mut previous = first;
+        for j in first + 1..=last {
+            if !gain[j].is_finite() {
+                continue;
+            }
+            let i = std::mem::replace(&mut previous, j);
+            let (y0, y1) = (gain[i] - level, gain[j] - level);
             if y0 * y1 < 0.0 || (y0 == 0.0 && y1 != 0.0) {
-                let (u0, u1) = (self.f_hz[i].ln(), self.f_hz[j].ln());
+                let (u0, u1) = (self.log_f[i], self.log_f[j]);
                 let h = u1 - u0;
                 let (m0, m1) = (response.slope_db[i] * h, response.slope_db[j] * h);
-                // Cubic Hermite in (ln f, dB) with the exact end slopes, as in `measure`.
+                // Cubic Hermite in (ln f, dB) with the exact end slopes, as in `measure`, and its
+                // derivative in t.
                 let cubic = |t: f64| {
                     let (t2, t3) = (t * t, t * t * t);
                     (2.0 * t3 - 3.0 * t2 + 1.0) * y0
@@ -857,17 +1221,34 @@ impl TolerancePlan {
                         + (-2.0 * t3 + 3.0 * t2) * y1
                         + (t3 - t2) * m1
                 };
+                let slope = |t: f64| {
+                    let t2 = t * t;
+                    (6.0 * t2 - 6.0 * t) * (y0 - y1) + (3.0 * t2 - 4.0 * t + 1.0) * m0 + (3.0 * t2 - 2.0 * t) * m1
+                };
+                // Newton's method kept inside the shrinking sign-change bracket (a bisection step
+                // wherever Newton would leave it), to full precision.
                 let (mut lo, mut hi) = (0.0, 1.0);
-                for _ in 0..60 {
-                    let mid = 0.5 * (lo + hi);
-                    if (cubic(mid) > 0.0) == (y0 > 0.0) {
-                        lo = mid;
+                let mut t = if y0 != y1 { y0 / (y0 - y1) } else { 0.5 };
+                for _ in 0..100 {
+                    let f = cubic(t);
+                    if f == 0.0 {
+                        break;
+                    }
+                    if (f > 0.0) == (y0 > 0.0) {
+                        lo = t;
                     } else {
-                        hi = mid;
+                        hi = t;
+                    }
+                    let newton = t - f / slope(t);
+                    let next = if newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
+                    let done = (next - t).abs() <= 4.0 * f64::EPSILON || hi - lo <= 4.0 * f64::EPSILON;
+                    t = next;
+                    if done {
+                        break;
                     }
                 }
                 let edge = if y1 < y0 { Edge::Falling } else { Edge::Rising };
-                found.push(((u0 + 0.5 * (lo + hi) * h).exp(), edge));
+                found.push(((u0 + t * h).exp(), edge));
             }
         }
         self.corners
@@ -950,6 +1331,16 @@ impl TrialResponse {
         let n = gain_db.len();
         assert!(phase_deg.len() == n && group_delay_s.len() == n, "one value per frequency in each quantity");
         TrialResponse { gain_db, phase_deg, group_delay_s, slope_db: vec![f64::NAN; n] }
+    }
+
+    /// Stores one point (the phase still principal, unwrapped later) where it is finite.
+    fn store(&mut self, k: usize, omega: f64, gain_db: f64, phase_deg: f64, ratio: Complex64) {
+        if gain_db.is_finite() && ratio.re.is_finite() && ratio.im.is_finite() {
+            self.gain_db[k] = gain_db;
+            self.phase_deg[k] = phase_deg;
+            self.group_delay_s[k] = -ratio.im;
+            self.slope_db[k] = DB_PER_NEPER * omega * ratio.re;
+        }
     }
 
     fn empty(n: usize) -> TrialResponse {
@@ -1076,9 +1467,262 @@ fn percentile(values: &mut [f64], q: f64) -> f64 {
     low + fraction * (high - low)
 }
 
+/// Trials at or above which a column's order statistics are bracketed from a sample.
+const BRACKET_FROM: usize = 8 * BRACKET_SAMPLE;
+
+/// Sample size for the brackets.
+const BRACKET_SAMPLE: usize = 256;
+
+/// Brackets for the `lo` and `hi` quantiles of each column, found from a sorted sample of the
+/// column's values, in the manner of Floyd & Rivest ("Expected time bounds for selection",
+/// CACM 18(3), 1975): the quantile's place in the sample, four standard deviations of a sample
+/// quantile's rank either side, plus two. A column with fewer than 16 finite sample values gets
+/// an unbounded bracket (every value is kept).
+///
+/// `sample(i)` gives the i-th sampled trial's values over the columns.
+fn brackets_from<'a>(n: usize, lo: f64, hi: f64, sample: impl Fn(usize) -> &'a [f64]) -> Vec<[f64; 4]> {
+    let mut columns = vec![0.0; n * BRACKET_SAMPLE];
+    for i in 0..BRACKET_SAMPLE {
+        for (k, &v) in sample(i).iter().enumerate() {
+            columns[k * BRACKET_SAMPLE + i] = v;
+        }
+    }
+    let mut brackets = vec![[f64::NEG_INFINITY, f64::INFINITY, f64::NEG_INFINITY, f64::INFINITY]; n];
+    for (k, bracket) in brackets.iter_mut().enumerate() {
+        let column = &mut columns[k * BRACKET_SAMPLE..(k + 1) * BRACKET_SAMPLE];
+        column.sort_unstable_by(f64::total_cmp);
+        let finite: Vec<f64> = column.iter().copied().filter(|v| v.is_finite()).collect();
+        if finite.len() < 16 {
+            continue;
+        }
+        let last = (finite.len() - 1) as f64;
+        let ends = |q: f64| {
+            let at = q * last;
+            let margin = 4.0 * (finite.len() as f64 * q * (1.0 - q)).sqrt() + 2.0;
+            let (below, above) = ((at - margin).floor(), (at + margin).ceil());
+            (
+                if below < 0.0 { f64::NEG_INFINITY } else { finite[below as usize] },
+                if above > last { f64::INFINITY } else { finite[above as usize] },
+            )
+        };
+        let ((a, b), (c, d)) = (ends(lo), ends(hi));
+        *bracket = [a, b, c, d];
+    }
+    brackets
+}
+
+/// One quantity's trials folded per column, one trial at a time: the count of finite values,
+/// their smallest and largest, the counts below each quantile's bracket, and the values inside
+/// each bracket. Folds of disjoint sets of trials with the same brackets merge exactly.
+#[derive(Debug, Clone, PartialEq)]
+struct ColumnFold {
+    /// Whether the columns are bracketed; if not, `inside_lo` keeps every finite value.
+    bracketed: bool,
+    a_lo: Vec<f64>,
+    b_lo: Vec<f64>,
+    a_hi: Vec<f64>,
+    b_hi: Vec<f64>,
+    /// Counts, held as f64 (exact below 2^53) so that the fold vectorises.
+    finite: Vec<f64>,
+    min: Vec<f64>,
+    max: Vec<f64>,
+    below_lo: Vec<f64>,
+    below_hi: Vec<f64>,
+    inside_lo: Vec<Vec<f64>>,
+    inside_hi: Vec<Vec<f64>>,
+    /// Scratch for rows longer than 512 columns: the bits of the values inside a bracket.
+    hits: Vec<u64>,
+}
+
+impl ColumnFold {
+    /// An empty fold over `n` columns, bracketed by `brackets` where given.
+    fn new(n: usize, brackets: Option<&[[f64; 4]]>, expected: usize) -> ColumnFold {
+        let end = |i: usize, unbounded: f64| match brackets {
+            Some(b) => b.iter().map(|b| b[i]).collect(),
+            None => vec![unbounded; n],
+        };
+        let bracketed = brackets.is_some();
+        let guess = if bracketed { expected / 8 } else { expected };
+        ColumnFold {
+            bracketed,
+            a_lo: end(0, f64::NEG_INFINITY),
+            b_lo: end(1, f64::INFINITY),
+            a_hi: end(2, f64::NEG_INFINITY),
+            b_hi: end(3, f64::INFINITY),
+            finite: vec![0.0; n],
+            min: vec![f64::INFINITY; n],
+            max: vec![f64::NEG_INFINITY; n],
+            below_lo: vec![0.0; n],
+            below_hi: vec![0.0; n],
+            inside_lo: (0..n).map(|_| Vec::with_capacity(guess)).collect(),
+            inside_hi: (0..n).map(|_| if bracketed { Vec::with_capacity(guess) } else { Vec::new() }).collect(),
+            hits: vec![0; (2 * n).div_ceil(64)],
+        }
+    }
+
+    /// Folds in one trial's values over the columns.
+    #[inline(always)]
+    fn add(&mut self, row: &[f64]) {
+        let n = self.finite.len();
+        let row = &row[..n];
+        let (a_lo, b_lo, a_hi, b_hi) = (&self.a_lo[..n], &self.b_lo[..n], &self.a_hi[..n], &self.b_hi[..n]);
+        let (min, max) = (&mut self.min[..n], &mut self.max[..n]);
+        let (finite, below_lo, below_hi) = (&mut self.finite[..n], &mut self.below_lo[..n], &mut self.below_hi[..n]);
+        // Branch-free and in f64 throughout, so that it runs as vector instructions: a value that
+        // is not finite becomes NaN, which every comparison rejects and f64::min/max pass over.
+        // The counts are exact in f64 (below 2^53). Each value inside a bracket sets its bit in
+        // `hits`, two bits per column.
+        let words = (2 * n).div_ceil(64);
+        let mut hits = [0u64; 16];
+        let hits = if words <= hits.len() { &mut hits[..words] } else { &mut self.hits[..] };
+        hits.iter_mut().for_each(|w| *w = 0);
+        for k in 0..n {
+            let v = if row[k].is_finite() { row[k] } else { f64::NAN };
+            finite[k] += if v.is_nan() { 0.0 } else { 1.0 };
+            min[k] = min[k].min(v);
+            max[k] = max[k].max(v);
+            below_lo[k] += if v < a_lo[k] { 1.0 } else { 0.0 };
+            below_hi[k] += if v < a_hi[k] { 1.0 } else { 0.0 };
+        }
+        for (w, word) in hits.iter_mut().enumerate() {
+            let first = w * 32;
+            for (j, k) in (first..(first + 32).min(n)).enumerate() {
+                let v = row[k];
+                let lo = u64::from((v >= a_lo[k]) & (v <= b_lo[k]));
+                let hi = u64::from((v >= a_hi[k]) & (v <= b_hi[k]));
+                *word |= (lo | (hi << 1)) << (2 * j);
+            }
+        }
+        for (w, &word) in hits.iter().enumerate() {
+            let mut bits = word;
+            while bits != 0 {
+                let at = w * 64 + bits.trailing_zeros() as usize;
+                bits &= bits - 1;
+                let k = at / 2;
+                if at % 2 == 0 {
+                    self.inside_lo[k].push(row[k]);
+                } else if self.bracketed {
+                    self.inside_hi[k].push(row[k]);
+                }
+            }
+        }
+    }
+
+    /// Merges a fold of other trials with the same brackets.
+    fn merge(&mut self, other: ColumnFold) {
+        for k in 0..self.finite.len() {
+            self.finite[k] += other.finite[k];
+            self.min[k] = self.min[k].min(other.min[k]);
+            self.max[k] = self.max[k].max(other.max[k]);
+            self.below_lo[k] += other.below_lo[k];
+            self.below_hi[k] += other.below_hi[k];
+        }
+        for (mine, theirs) in self.inside_lo.iter_mut().zip(other.inside_lo) {
+            mine.extend(theirs);
+        }
+        for (mine, theirs) in self.inside_hi.iter_mut().zip(other.inside_hi) {
+            mine.extend(theirs);
+        }
+    }
+
+    /// Writes the fold into `env` (min and max joined with what it holds; the quantiles where a
+    /// column has finite values) and returns the columns whose brackets missed their ranks, which
+    /// the caller must select whole with [`percentile_pair_by_selection`].
+    fn finish(mut self, lo: f64, hi: f64, env: &mut Envelope) -> Vec<usize> {
+        let mut missed = Vec::new();
+        for k in 0..self.finite.len() {
+            env.min[k] = env.min[k].min(self.min[k]);
+            env.max[k] = env.max[k].max(self.max[k]);
+            let m = self.finite[k] as usize;
+            if m == 0 {
+                continue;
+            }
+            let found = if self.bracketed {
+                rank_in_bracket(&mut self.inside_lo[k], self.below_lo[k] as usize, m, lo).zip(rank_in_bracket(
+                    &mut self.inside_hi[k],
+                    self.below_hi[k] as usize,
+                    m,
+                    hi,
+                ))
+            } else {
+                Some(percentile_pair_by_selection(&mut self.inside_lo[k], lo, hi))
+            };
+            match found {
+                Some((low, high)) => {
+                    env.low[k] = low;
+                    env.high[k] = high;
+                }
+                None => missed.push(k),
+            }
+        }
+        missed
+    }
+}
+
+/// Folds the trials' values of one quantity at the frequencies `range` into `env` (which holds
+/// that range alone): the smallest and largest finite value per frequency into `min` and `max`
+/// (which hold the nominal and the corners already), and the `lo` and `hi` quantiles of the
+/// finite values into `low` and `high`, exactly as [`percentile`] gives them on each column.
+///
+/// The trials are read once, row by row, as they are stored. From [`BRACKET_FROM`] trials on,
+/// each column's order statistics are first bracketed from a strided sample of the trials
+/// ([`brackets_from`]); the pass keeps the values inside each bracket (a few per cent) and the
+/// selection runs on those alone. Where a bracket misses its rank (the sample was not
+/// representative; rare for Monte Carlo trials, whose order is random), that column is gathered
+/// whole and selected, so the result never depends on the sample.
+fn fold_trials(
+    trials: &[&TrialResponse],
+    pick: fn(&TrialResponse) -> &[f64],
+    range: Range<usize>,
+    lo: f64,
+    hi: f64,
+    env: &mut Envelope,
+) {
+    fn within<'a>(whole: fn(&TrialResponse) -> &[f64], r: &'a TrialResponse, range: &Range<usize>) -> &'a [f64] {
+        &whole(r)[range.clone()]
+    }
+    let (n, count) = (range.len(), trials.len());
+    if count == 0 {
+        return;
+    }
+    let brackets = (count >= BRACKET_FROM).then(|| {
+        let stride = count / BRACKET_SAMPLE;
+        brackets_from(n, lo, hi, |i| within(pick, trials[i * stride], &range))
+    });
+    let mut fold = ColumnFold::new(n, brackets.as_deref(), count);
+    for r in trials {
+        fold.add(within(pick, r, &range));
+    }
+    for k in fold.finish(lo, hi, env) {
+        let mut column: Vec<f64> =
+            trials.iter().map(|r| within(pick, r, &range)[k]).filter(|v| v.is_finite()).collect();
+        let (low, high) = percentile_pair_by_selection(&mut column, lo, hi);
+        env.low[k] = low;
+        env.high[k] = high;
+    }
+}
+
+/// The q-quantile of a column of `m` finite values, as [`percentile`] gives it, from the values
+/// `inside` a bracket with `below` values of the column under it; `None` where the order
+/// statistics it needs are not inside.
+fn rank_in_bracket(inside: &mut [f64], below: usize, m: usize, q: f64) -> Option<f64> {
+    let position = q * (m - 1) as f64;
+    let rank = position.floor() as usize;
+    let needs_next = rank + 1 < m;
+    if rank < below || rank + usize::from(needs_next) >= below + inside.len() {
+        return None;
+    }
+    let (_, &mut at, rest) = inside.select_nth_unstable_by(rank - below, f64::total_cmp);
+    let fraction = position - rank as f64;
+    if fraction == 0.0 || !needs_next {
+        return Some(at);
+    }
+    Some(at + fraction * (rest.iter().copied().fold(f64::INFINITY, f64::min) - at))
+}
+
 /// The `lo` and `hi` quantiles (lo ≤ hi) as [`percentile`] gives them, the second found only in
 /// the part of the slice that the first selection left above its position.
-fn percentile_pair(values: &mut [f64], lo: f64, hi: f64) -> (f64, f64) {
+fn percentile_pair_by_selection(values: &mut [f64], lo: f64, hi: f64) -> (f64, f64) {
     let low = percentile(values, lo);
     let last = (values.len() - 1) as f64;
     let split = (lo * last).floor() as usize;
@@ -1158,6 +1802,38 @@ mod tests {
             distribution,
             by_kind: KindTolerances { resistor: 0.01, capacitor: 0.05, inductor: 0.10 },
             ..ToleranceOptions::default()
+        }
+    }
+
+    #[test]
+    fn folded_runs_equal_kept_runs_however_split() {
+        // A ladder (solved by reduction) with 2500 trials, so that the envelopes are bracketed,
+        // and a bridge (solved by MNA) with 300, where every value is kept: the folded report must
+        // equal the kept one bit for bit, whatever the split and with the corners.
+        let (ladder, ladder_probe) = series_rlc(20.0, 1e-3, 1e-6);
+        let mut b = CircuitBuilder::new();
+        b.voltage_source("V1", "in", "0", 1.0, 50.0)
+            .resistor("R1", "in", "a", 1e3)
+            .resistor("R2", "in", "b", 2.2e3)
+            .capacitor("C3", "a", "0", 10e-9)
+            .capacitor("C4", "b", "0", 47e-9)
+            .resistor("R5", "a", "b", 4.7e3);
+        let bridge = b.build().unwrap();
+        let bridge_probe = Probe::new(&bridge, "V1", "a", "0").unwrap();
+        for (circuit, probe, trials, points) in [(&ladder, &ladder_probe, 2500, 40), (&bridge, &bridge_probe, 300, 33)]
+        {
+            let mut opts = options(trials, Distribution::Uniform);
+            opts.corners = true;
+            let plan = TolerancePlan::new(circuit, probe, &grid(100.0, 1e6, points), &opts).unwrap();
+            let corners = plan.run_corners();
+            let kept = plan.summarize(&[plan.run_trials(0..trials), corners.clone()]);
+            let fold = plan.fold_plan();
+            let whole = plan.summarize_folded(vec![plan.run_folded(&fold, 0..trials)], Some(&corners));
+            assert_eq!(whole, kept, "{trials} trials in one part");
+            let cut = trials / 3;
+            let parts = vec![plan.run_folded(&fold, cut..trials), plan.run_folded(&fold, 0..cut)];
+            assert_eq!(plan.summarize_folded(parts, Some(&corners)), kept, "{trials} trials in two parts");
+            assert_eq!(plan.summarize_with(&[plan.run_trials(0..trials), corners], &Sequential), kept);
         }
     }
 
@@ -1425,6 +2101,58 @@ mod tests {
     }
 
     #[test]
+    fn bracketed_envelopes_equal_full_selection_on_any_data() {
+        // Shuffled, sorted, reversed, heavily tied, constant and two-valued columns, with and
+        // without non-finite points, at trial counts either side of the bracketing threshold: the
+        // envelope must equal plain selection over each whole column bit for bit (it falls back to
+        // it where a bracket misses).
+        let mut rng = Xoshiro256PlusPlus::seed_from_u64(3);
+        for count in [2047, 2048, 5000, 10_000] {
+            let shuffled: Vec<f64> = (0..count)
+                .map(|_| {
+                    let z: f64 = StandardNormal.sample(&mut rng);
+                    z
+                })
+                .collect();
+            let mut sorted = shuffled.clone();
+            sorted.sort_by(f64::total_cmp);
+            let reversed: Vec<f64> = sorted.iter().rev().copied().collect();
+            let tied: Vec<f64> = shuffled.iter().map(|v| (v * 3.0).round()).collect();
+            let two: Vec<f64> = (0..count).map(|t| if t % 97 == 0 { 2.0 } else { -1.0 }).collect();
+            let holes: Vec<f64> =
+                shuffled.iter().enumerate().map(|(t, &v)| if t % 5 == 0 { f64::NAN } else { v }).collect();
+            let mostly_nan: Vec<f64> = (0..count).map(|t| if t % 300 == 7 { t as f64 } else { f64::NAN }).collect();
+            let columns = [shuffled, sorted, reversed, tied, vec![1.5; count], two, holes, mostly_nan];
+            let trials: Vec<TrialResponse> = (0..count)
+                .map(|t| {
+                    let row: Vec<f64> = columns.iter().map(|c| c[t]).collect();
+                    TrialResponse::from_values(row.clone(), row.clone(), row)
+                })
+                .collect();
+            let refs: Vec<&TrialResponse> = trials.iter().collect();
+            for (lo, hi) in [(0.05, 0.95), (0.0, 1.0), (0.25, 0.75), (0.001, 0.999)] {
+                let start = vec![0.0; columns.len()];
+                let mut env = Envelope {
+                    nominal: start.clone(),
+                    min: start.clone(),
+                    max: start.clone(),
+                    low: start.clone(),
+                    high: start,
+                };
+                fold_trials(&refs, |r| &r.gain_db, 0..columns.len(), lo, hi, &mut env);
+                for (k, column) in columns.iter().enumerate() {
+                    let mut finite: Vec<f64> = column.iter().copied().filter(|v| v.is_finite()).collect();
+                    let min = finite.iter().copied().fold(0.0, f64::min);
+                    let max = finite.iter().copied().fold(0.0, f64::max);
+                    let (low, high) = percentile_pair_by_selection(&mut finite, lo, hi);
+                    assert_eq!((env.min[k], env.max[k]), (min, max), "count {count}, column {k}");
+                    assert_eq!((env.low[k], env.high[k]), (low, high), "count {count}, column {k}, {lo} and {hi}");
+                }
+            }
+        }
+    }
+
+    #[test]
     fn percentiles_follow_numpys_linear_rule() {
         // Source: numpy.percentile(method="linear"): np.percentile([1, 2, 3, 4], 25) = 1.75,
         // np.percentile([1, 2, 3, 4], 90) = 3.7 (hand-evaluated from numpy's documented formula).
@@ -1434,7 +2162,7 @@ mod tests {
         // The pair gives what two separate selections give, on a shuffled sequence.
         let values: Vec<f64> = (0..1001).map(|k| ((k * 7919) % 1001) as f64 * 0.5).collect();
         for (lo, hi) in [(0.05, 0.95), (0.25, 0.75), (0.0, 1.0), (0.5, 0.5)] {
-            let (a, b) = percentile_pair(&mut values.clone(), lo, hi);
+            let (a, b) = percentile_pair_by_selection(&mut values.clone(), lo, hi);
             assert_eq!(a, percentile(&mut values.clone(), lo));
             assert_eq!(b, percentile(&mut values.clone(), hi));
         }
