@@ -63,13 +63,6 @@ enum Branch {
     Parallel(Vec<Branch>),
 }
 
-/// A complex value with its derivative with respect to ω.
-#[derive(Debug, Clone, Copy)]
-struct Dual {
-    v: Complex64,
-    d: Complex64,
-}
-
 impl Reduction {
     /// Reduces `circuit` as measured by `probe`, or `None` where it is not a ladder of
     /// two-terminal branches (see the module doc).
@@ -244,59 +237,14 @@ impl Reduction {
         if !(omega > 0.0 && omega.is_finite()) {
             return None;
         }
-        let mut v = Dual::constant(Complex64::new(1.0, 0.0));
-        let mut i = Dual::constant(Complex64::new(0.0, 0.0));
-        let mut v_out = v;
-        // The common leaves (ideal shunt capacitor, shunt resistor, series inductor with its DCR,
-        // series resistor) are written out; anything else goes through the general branch code.
-        let j = |x: f64| Complex64::new(0.0, x);
-        for (k, step) in self.steps.iter().enumerate() {
-            match (&step.shunt_sum, &step.shunt) {
-                (Some(sum), _) => {
-                    // Y = Σ jωC + Σ 1/R, Y′ = Σ jC; i += v·Y, i′ += v′·Y + v·Y′.
-                    let (mut y, mut dy) = (Complex64::new(0.0, 0.0), Complex64::new(0.0, 0.0));
-                    for &(capacitor, index) in sum {
-                        if capacitor {
-                            y.im += omega * values[index];
-                            dy.im += values[index];
-                        } else {
-                            y.re += 1.0 / values[index];
-                        }
-                    }
-                    i.d += v.d * y + v.v * dy;
-                    i.v += v.v * y;
-                }
-                (None, Some(shunt)) => i = i.add(v.mul(self.admittance(shunt, omega, values))),
-                (None, None) => {}
-            }
-            if k == self.output_step {
-                v_out = v;
-            }
-            match &step.series {
-                Some(Branch::Leaf(index)) if self.kind[*index] == 2 => {
-                    let (l, r) = (values[*index], self.parasitic[*index]);
-                    let z = Complex64::new(r, omega * l);
-                    // v += (r + jωL)·i; v′ += jL·i + (r + jωL)·i′.
-                    v.d += j(l) * i.v + z * i.d;
-                    v.v += z * i.v;
-                }
-                Some(Branch::Leaf(index)) if self.kind[*index] == 0 => {
-                    let r = values[*index];
-                    v.v += i.v * r;
-                    v.d += i.d * r;
-                }
-                Some(series) => v = v.add(self.impedance(series, omega, values).mul(i)),
-                None => {}
-            }
-        }
-        let emf = v.add(i.scale(self.source_ohms));
-        let h = v_out.mul(emf.inv());
+        let (h, dh) = self.solve_lanes(&[omega; LANES], values);
+        let (h, dh) = (Complex64::new(h.re[0], h.im[0]), Complex64::new(dh.re[0], dh.im[0]));
         let finite = |z: Complex64| z.re.is_finite() && z.im.is_finite();
-        (finite(h.v) && finite(h.d)).then_some((h.v, h.d))
+        (finite(h) && finite(dh)).then_some((h, dh))
     }
 
-    /// [`Reduction::solve`] at [`LANES`] angular frequencies at once (rad/s), the same arithmetic
-    /// written lane by lane so that it runs as vector instructions: H in the first result and
+    /// H and dH/dω at [`LANES`] angular frequencies at once (rad/s), written lane by lane so that
+    /// it runs as vector instructions ([`crate::lanes`]): H in the first result and
     /// dH/dω in the second, per lane. Nothing is declined here: the caller must treat a lane whose
     /// ω is not positive and finite, or whose H or H′ is not finite, as [`Reduction::solve`]
     /// treats a declined point.
@@ -404,70 +352,6 @@ impl Reduction {
                 .fold(LaneDual::constant(LaneComplex::ZERO), LaneDual::add),
             _ => self.impedance_lanes(branch, omega, values).inv(),
         }
-    }
-
-    fn impedance(&self, branch: &Branch, omega: f64, values: &[f64]) -> Dual {
-        match branch {
-            Branch::Leaf(index) => self.leaf_impedance(*index, omega, values[*index]),
-            Branch::Series(parts) => parts
-                .iter()
-                .map(|p| self.impedance(p, omega, values))
-                .fold(Dual::constant(Complex64::new(0.0, 0.0)), Dual::add),
-            Branch::Parallel(_) => self.admittance(branch, omega, values).inv(),
-        }
-    }
-
-    fn admittance(&self, branch: &Branch, omega: f64, values: &[f64]) -> Dual {
-        match branch {
-            Branch::Leaf(index) if self.kind[*index] == 1 && self.parasitic[*index] == 0.0 => {
-                // An ideal capacitor's admittance jωC, finite at every frequency.
-                let c = values[*index];
-                Dual { v: Complex64::new(0.0, omega * c), d: Complex64::new(0.0, c) }
-            }
-            Branch::Leaf(index) if self.kind[*index] == 0 => Dual::constant(Complex64::new(1.0 / values[*index], 0.0)),
-            Branch::Parallel(parts) => parts
-                .iter()
-                .map(|p| self.admittance(p, omega, values))
-                .fold(Dual::constant(Complex64::new(0.0, 0.0)), Dual::add),
-            _ => self.impedance(branch, omega, values).inv(),
-        }
-    }
-
-    fn leaf_impedance(&self, index: usize, omega: f64, value: f64) -> Dual {
-        let r = self.parasitic[index];
-        match self.kind[index] {
-            0 => Dual::constant(Complex64::new(value, 0.0)),
-            // r + 1/(jωC) = r − j/(ωC); d/dω = j/(ω²C).
-            1 => Dual {
-                v: Complex64::new(r, -1.0 / (omega * value)),
-                d: Complex64::new(0.0, 1.0 / (omega * omega * value)),
-            },
-            // r + jωL; d/dω = jL.
-            _ => Dual { v: Complex64::new(r, omega * value), d: Complex64::new(0.0, value) },
-        }
-    }
-}
-
-impl Dual {
-    fn constant(v: Complex64) -> Dual {
-        Dual { v, d: Complex64::new(0.0, 0.0) }
-    }
-
-    fn add(self, other: Dual) -> Dual {
-        Dual { v: self.v + other.v, d: self.d + other.d }
-    }
-
-    fn mul(self, other: Dual) -> Dual {
-        Dual { v: self.v * other.v, d: self.d * other.v + self.v * other.d }
-    }
-
-    fn scale(self, k: f64) -> Dual {
-        Dual { v: self.v * k, d: self.d * k }
-    }
-
-    fn inv(self) -> Dual {
-        let inverse = self.v.inv();
-        Dual { v: inverse, d: -self.d * inverse * inverse }
     }
 }
 

@@ -76,8 +76,8 @@ use std::ops::Range;
 // Defines `$name`, which runs the method `$here` (marked `#[inline(always)]`) compiled for AVX2
 // where the processor has it (x86-64), and as it is elsewhere: the same IEEE operations four
 // lanes wide instead of two (no fused multiply-add), so the results are identical bit for bit.
-// Everything the method calls on the trial path is `#[inline(always)]` too, so that it lands in
-// the AVX2 copy.
+// The solver it calls (evaluation, reduction, lanes, fold) is `#[inline(always)]` too, so that it
+// lands in the AVX2 copy; the rest (corner search, pole Qs) runs as compiled for the baseline.
 macro_rules! vectorised {
     ($(#[$doc:meta])* $vis:vis fn $name:ident / $avx:ident = $here:ident(&self $(, $arg:ident: $ty:ty)*) -> $out:ty) => {
         $(#[$doc])*
@@ -1124,7 +1124,7 @@ impl TolerancePlan {
             let phase: Lane = std::array::from_fn(|j| arg[j].to_degrees());
             let finite = |x: &Lane| x.iter().fold(true, |all, v| all & v.is_finite());
             let whole = first + LANES <= n
-                && omega[0] > 0.0
+                && omega.iter().all(|w| *w > 0.0 && w.is_finite())
                 && finite(&h.re)
                 && finite(&h.im)
                 && finite(&dh.re)
@@ -2130,6 +2130,19 @@ mod tests {
                 })
                 .collect();
             let refs: Vec<&TrialResponse> = trials.iter().collect();
+            if count >= BRACKET_FROM {
+                // The bracketed path itself must hold the shuffled column's percentiles (no
+                // fallback), or the comparison below would only test the fallback.
+                let stride = count / BRACKET_SAMPLE;
+                let brackets = brackets_from(1, 0.05, 0.95, |i| &refs[i * stride].gain_db[..1]);
+                let mut fold = ColumnFold::new(1, Some(&brackets), count);
+                for r in &refs {
+                    fold.add(&r.gain_db[..1]);
+                }
+                let mut env =
+                    Envelope { nominal: vec![0.0], min: vec![0.0], max: vec![0.0], low: vec![0.0], high: vec![0.0] };
+                assert!(fold.finish(0.05, 0.95, &mut env).is_empty(), "count {count}: the bracket missed");
+            }
             for (lo, hi) in [(0.05, 0.95), (0.0, 1.0), (0.25, 0.75), (0.001, 0.999)] {
                 let start = vec![0.0; columns.len()];
                 let mut env = Envelope {
