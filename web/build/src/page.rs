@@ -306,15 +306,7 @@ pub fn csp_hash(text: &str) -> String {
 /// References mean the same in text, in attribute values and in `<title>` and `<textarea>`;
 /// the template holds no script or style text of its own (the build inserts those).
 fn ascii_markup(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for c in text.chars() {
-        if c.is_ascii() {
-            out.push(c);
-        } else {
-            out.push_str(&format!("&#x{:X};", u32::from(c)));
-        }
-    }
-    out
+    ascii_escaped(text, |c| format!("&#x{c:X};"))
 }
 
 /// Writes each non-ASCII character as a CSS escape (`▾` as `\0025BE `).
@@ -323,12 +315,17 @@ fn ascii_markup(text: &str) -> String {
 /// of it, so the space keeps a following space or hex digit as it was. Escapes mean the same in
 /// strings and identifiers, and comments are not read.
 fn ascii_css(text: &str) -> String {
+    ascii_escaped(text, |c| format!("\\{c:06X} "))
+}
+
+/// Copies `text`, writing each non-ASCII character (as its code point) through `escape`.
+fn ascii_escaped(text: &str, escape: impl Fn(u32) -> String) -> String {
     let mut out = String::with_capacity(text.len());
     for c in text.chars() {
         if c.is_ascii() {
             out.push(c);
         } else {
-            out.push_str(&format!("\\{:06X} ", u32::from(c)));
+            out.push_str(&escape(u32::from(c)));
         }
     }
     out
