@@ -213,8 +213,11 @@ pub fn run(design: &bandwright::Design, options: &SpreadOptions) -> Result<Sprea
     let corners = options.run.corners.then(|| plan.run_corners());
     let Some(mask) = &options.mask else {
         // No yield to count: each trial is folded into the envelopes as it is solved.
-        let report =
-            plan.summarize_folded(run_folded_threaded(&plan, options.run.trials, options.threads), corners.as_ref());
+        let report = plan.summarize_folded_with(
+            run_folded_threaded(&plan, options.run.trials, options.threads),
+            corners.as_ref(),
+            &Threads(options.threads),
+        );
         return Ok(SpreadRun { name: design.name.clone(), report, mask_yield: None });
     };
     let mut batches = run_threaded(&plan, options.run.trials, options.threads);

@@ -5,7 +5,7 @@
 //! - the run on one thread, each trial folded into the envelopes as it is solved
 //!   (`fold_plan`, `run_folded`, `summarize_folded`: the CLI's way without a mask);
 //! - the same split over every core with `std::thread::scope` (`Parallel` jobs: the sample, the
-//!   trials by index, the three quantities' selections);
+//!   trials by index, the summary's columns);
 //! - every trial's response kept (`run_trials` on every core, then `summarize_with`), as a mask
 //!   yield or the browser's workers need.
 //!
@@ -72,14 +72,15 @@ fn threaded(plan: &TolerancePlan, threads: usize) -> Vec<TrialBatch> {
     Threads(threads).map(threads, &|t| plan.run_trials((t * chunk).min(TRIALS)..((t + 1) * chunk).min(TRIALS)))
 }
 
-/// The whole run folded as it goes (what the CLI's `spread` does without a mask): the brackets,
-/// the trials split by index over `threads` threads, then the merge.
+/// The whole run folded as it goes (what the CLI's `spread` does without a mask), each stage
+/// split over `threads` threads: the brackets' sample, the trials by index, then the summary's
+/// columns.
 fn folded(plan: &TolerancePlan, threads: usize) -> ToleranceReport {
-    let fold = plan.fold_plan();
+    let fold = plan.fold_plan_with(&Threads(threads));
     let chunk = TRIALS.div_ceil(threads);
     let parts = Threads(threads)
         .map(threads, &|t| plan.run_folded(&fold, (t * chunk).min(TRIALS)..((t + 1) * chunk).min(TRIALS)));
-    plan.summarize_folded(parts, None)
+    plan.summarize_folded_with(parts, None, &Threads(threads))
 }
 
 fn median(mut v: Vec<f64>) -> f64 {

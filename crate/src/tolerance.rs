@@ -835,8 +835,9 @@ impl TolerancePlan {
         self.summarize_folded_with(folds, corners, &Sequential)
     }
 
-    /// [`TolerancePlan::summarize_folded`] with the three quantities' selections as jobs for
-    /// `parallel`.
+    /// [`TolerancePlan::summarize_folded`] with the frequencies cut into `parallel.width()` jobs
+    /// that `parallel` may run at once, each finishing its columns of the three quantities. The
+    /// report is the same however the work is cut.
     pub fn summarize_folded_with<P: Parallel>(
         &self,
         mut folds: Vec<TrialFold>,
@@ -849,31 +850,32 @@ impl TolerancePlan {
         let mut envelopes = self.start_envelopes(&corner_responses);
         let (lo, hi) = self.band();
         let mut batches = Vec::with_capacity(folds.len() + 1);
-        let mut merged: Option<[ColumnFold; 3]> = None;
+        let mut columns: Vec<[ColumnFold; 3]> = Vec::with_capacity(folds.len());
         for fold in folds {
             batches.push(fold.batch);
-            match &mut merged {
-                None => merged = Some(fold.columns),
-                Some(all) => {
-                    for (mine, theirs) in all.iter_mut().zip(fold.columns) {
-                        mine.merge(theirs);
-                    }
-                }
-            }
+            columns.push(fold.columns);
         }
         let trials: usize = batches.iter().map(|b| b.corner_hz.len()).sum();
-        if let Some(merged) = merged {
-            let cells = merged.map(|fold| std::sync::Mutex::new(Some(fold)));
-            let finished = parallel.map(3, &|q| {
-                let mut env = envelopes[q].clone();
-                let fold = cells[q].lock().ok().and_then(|mut cell| cell.take());
-                let missed = fold.map_or_else(Vec::new, |fold| fold.finish(lo, hi, &mut env));
-                (env, missed)
+        if !columns.is_empty() {
+            // The frequencies cut into one job per thread, each finishing its columns of all
+            // three quantities from every part's fold (nothing is merged first).
+            let n = self.f_hz.len();
+            let jobs = parallel.width().clamp(1, n.max(1));
+            let range = |j: usize| j * n / jobs..(j + 1) * n / jobs;
+            let parts = parallel.map(jobs, &|j| {
+                std::array::from_fn::<_, 3, _>(|q| {
+                    let mut part = envelopes[q].part(range(j));
+                    let folds: Vec<&ColumnFold> = columns.iter().map(|c| &c[q]).collect();
+                    let missed = finish_columns(&folds, range(j), lo, hi, &mut part);
+                    (part, missed)
+                })
             });
-            let mut missed = Vec::with_capacity(3);
-            for (q, (env, m)) in finished.into_iter().enumerate() {
-                envelopes[q] = env;
-                missed.push(m);
+            let mut missed = vec![Vec::new(); 3];
+            for (j, part) in parts.into_iter().enumerate() {
+                for (q, (env, m)) in part.into_iter().enumerate() {
+                    envelopes[q].place(range(j), env);
+                    missed[q].extend(m);
+                }
             }
             if missed.iter().any(|m| !m.is_empty()) {
                 let mut columns: Vec<Vec<Vec<f64>>> = missed.iter().map(|m| vec![Vec::new(); m.len()]).collect();
@@ -1184,72 +1186,89 @@ impl TolerancePlan {
     /// reference gain.
     fn corners_of(&self, response: &TrialResponse) -> Vec<f64> {
         let gain = &response.gain_db;
-        let (mut first, mut last, mut peak) = (None, None, f64::NEG_INFINITY);
-        for (k, &g) in gain.iter().enumerate().filter(|(_, g)| g.is_finite()) {
-            first.get_or_insert(k);
-            last = Some(k);
-            peak = peak.max(g);
-        }
-        let (Some(first), Some(last)) = (first, last) else {
+        let Some(first) = gain.iter().position(|g| g.is_finite()) else {
             return vec![f64::NAN; self.corners.len()];
         };
+        let last = gain.iter().rposition(|g| g.is_finite()).unwrap_or(first);
         let reference = match self.reference {
             ReferenceKind::LowEnd => gain[first],
             ReferenceKind::HighEnd => gain[last],
-            ReferenceKind::Peak => peak,
+            ReferenceKind::Peak => finite_peak(&gain[first..=last]),
             ReferenceKind::Ends => gain[first].max(gain[last]),
         };
         let level = reference - HALF_POWER_DB;
-        let mut found: Vec<(f64, Edge)> = Vec::new();
-        let mut previous = first;
-        for j in first + 1..=last {
-            if !gain[j].is_finite() {
-                continue;
-            }
-            let i = std::mem::replace(&mut previous, j);
+        // Where the level is crossed between neighbouring finite points i < j (or left from a
+        // point exactly on it).
+        let crosses = |i: usize, j: usize| {
             let (y0, y1) = (gain[i] - level, gain[j] - level);
-            if y0 * y1 < 0.0 || (y0 == 0.0 && y1 != 0.0) {
-                let (u0, u1) = (self.log_f[i], self.log_f[j]);
-                let h = u1 - u0;
-                let (m0, m1) = (response.slope_db[i] * h, response.slope_db[j] * h);
-                // Cubic Hermite in (ln f, dB) with the exact end slopes, as in `measure`, and its
-                // derivative in t.
-                let cubic = |t: f64| {
-                    let (t2, t3) = (t * t, t * t * t);
-                    (2.0 * t3 - 3.0 * t2 + 1.0) * y0
-                        + (t3 - 2.0 * t2 + t) * m0
-                        + (-2.0 * t3 + 3.0 * t2) * y1
-                        + (t3 - t2) * m1
-                };
-                let slope = |t: f64| {
-                    let t2 = t * t;
-                    (6.0 * t2 - 6.0 * t) * (y0 - y1) + (3.0 * t2 - 4.0 * t + 1.0) * m0 + (3.0 * t2 - 2.0 * t) * m1
-                };
-                // Newton's method kept inside the shrinking sign-change bracket (a bisection step
-                // wherever Newton would leave it), to full precision.
-                let (mut lo, mut hi) = (0.0, 1.0);
-                let mut t = if y0 != y1 { y0 / (y0 - y1) } else { 0.5 };
-                for _ in 0..100 {
-                    let f = cubic(t);
-                    if f == 0.0 {
-                        break;
-                    }
-                    if (f > 0.0) == (y0 > 0.0) {
-                        lo = t;
-                    } else {
-                        hi = t;
-                    }
-                    let newton = t - f / slope(t);
-                    let next = if newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
-                    let done = (next - t).abs() <= 4.0 * f64::EPSILON || hi - lo <= 4.0 * f64::EPSILON;
-                    t = next;
-                    if done {
-                        break;
+            (y0 * y1 < 0.0) | ((y0 == 0.0) & (y1 != 0.0))
+        };
+        let mut pairs: Vec<(usize, usize)> = Vec::new();
+        if gain[first..=last].iter().fold(true, |all, g| all & g.is_finite()) {
+            // Every point is finite, so neighbours pair up; blocks of eight are tested at once
+            // (branch-free, as vector instructions) and only a block with a crossing is walked.
+            let mut j = first + 1;
+            while j + 8 <= last + 1 {
+                if (j..j + 8).fold(false, |any, j| any | crosses(j - 1, j)) {
+                    pairs.extend((j..j + 8).filter(|&j| crosses(j - 1, j)).map(|j| (j - 1, j)));
+                }
+                j += 8;
+            }
+            pairs.extend((j..=last).filter(|&j| crosses(j - 1, j)).map(|j| (j - 1, j)));
+        } else {
+            let mut previous = first;
+            for (j, g) in gain.iter().enumerate().take(last + 1).skip(first + 1) {
+                if g.is_finite() {
+                    let i = std::mem::replace(&mut previous, j);
+                    if crosses(i, j) {
+                        pairs.push((i, j));
                     }
                 }
-                let edge = if y1 < y0 { Edge::Falling } else { Edge::Rising };
-                found.push(((u0 + t * h).exp(), edge));
             }
+        }
+        let mut found: Vec<(f64, Edge)> = Vec::with_capacity(pairs.len());
+        for (i, j) in pairs {
+            let (y0, y1) = (gain[i] - level, gain[j] - level);
+            let (u0, u1) = (self.log_f[i], self.log_f[j]);
+            let h = u1 - u0;
+            let (m0, m1) = (response.slope_db[i] * h, response.slope_db[j] * h);
+            // Cubic Hermite in (ln f, dB) with the exact end slopes, as in `measure`, and its
+            // derivative in t.
+            let cubic = |t: f64| {
+                let (t2, t3) = (t * t, t * t * t);
+                (2.0 * t3 - 3.0 * t2 + 1.0) * y0
+                    + (t3 - 2.0 * t2 + t) * m0
+                    + (-2.0 * t3 + 3.0 * t2) * y1
+                    + (t3 - t2) * m1
+            };
+            let slope = |t: f64| {
+                let t2 = t * t;
+                (6.0 * t2 - 6.0 * t) * (y0 - y1) + (3.0 * t2 - 4.0 * t + 1.0) * m0 + (3.0 * t2 - 2.0 * t) * m1
+            };
+            // Newton's method kept inside the shrinking sign-change bracket (a bisection step
+            // wherever Newton would leave it), to full precision.
+            let (mut lo, mut hi) = (0.0, 1.0);
+            let mut t = if y0 != y1 { y0 / (y0 - y1) } else { 0.5 };
+            for _ in 0..100 {
+                let f = cubic(t);
+                if f == 0.0 {
+                    break;
+                }
+                if (f > 0.0) == (y0 > 0.0) {
+                    lo = t;
+                } else {
+                    hi = t;
+                }
+                let newton = t - f / slope(t);
+                let next = if newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
+                let done = (next - t).abs() <= 4.0 * f64::EPSILON || hi - lo <= 4.0 * f64::EPSILON;
+                t = next;
+                if done {
+                    break;
+                }
+            }
+            let edge = if y1 < y0 { Edge::Falling } else { Edge::Rising };
+            found.push(((u0 + t * h).exp(), edge));
         }
         self.corners
             .iter()
@@ -1488,32 +1507,48 @@ fn brackets_from<'a>(n: usize, lo: f64, hi: f64, sample: impl Fn(usize) -> &'a [
         }
     }
     let mut brackets = vec![[f64::NEG_INFINITY, f64::INFINITY, f64::NEG_INFINITY, f64::INFINITY]; n];
+    let mut finite = Vec::with_capacity(BRACKET_SAMPLE);
     for (k, bracket) in brackets.iter_mut().enumerate() {
-        let column = &mut columns[k * BRACKET_SAMPLE..(k + 1) * BRACKET_SAMPLE];
-        column.sort_unstable_by(f64::total_cmp);
-        let finite: Vec<f64> = column.iter().copied().filter(|v| v.is_finite()).collect();
+        finite.clear();
+        finite.extend(columns[k * BRACKET_SAMPLE..(k + 1) * BRACKET_SAMPLE].iter().copied().filter(|v| v.is_finite()));
         if finite.len() < 16 {
             continue;
         }
         let last = (finite.len() - 1) as f64;
+        // The ranks of the four ends (None: unbounded), then each end's order statistic by
+        // selection, in ascending rank, each in the part above the previous one: the values a
+        // full sort would put there, for a fraction of its cost.
         let ends = |q: f64| {
             let at = q * last;
             let margin = 4.0 * (finite.len() as f64 * q * (1.0 - q)).sqrt() + 2.0;
             let (below, above) = ((at - margin).floor(), (at + margin).ceil());
-            (
-                if below < 0.0 { f64::NEG_INFINITY } else { finite[below as usize] },
-                if above > last { f64::INFINITY } else { finite[above as usize] },
-            )
+            [(below >= 0.0).then_some(below as usize), (above <= last).then_some(above as usize)]
         };
-        let ((a, b), (c, d)) = (ends(lo), ends(hi));
-        *bracket = [a, b, c, d];
+        let [a, b] = ends(lo);
+        let [c, d] = ends(hi);
+        let mut ranks: Vec<usize> = [a, b, c, d].into_iter().flatten().collect();
+        ranks.sort_unstable();
+        ranks.dedup();
+        let mut from = 0;
+        for &rank in &ranks {
+            finite[from..].select_nth_unstable_by(rank - from, f64::total_cmp);
+            from = rank;
+        }
+        let value = |rank: Option<usize>, unbounded: f64| rank.map_or(unbounded, |r| finite[r]);
+        *bracket = [
+            value(a, f64::NEG_INFINITY),
+            value(b, f64::INFINITY),
+            value(c, f64::NEG_INFINITY),
+            value(d, f64::INFINITY),
+        ];
     }
     brackets
 }
 
 /// One quantity's trials folded per column, one trial at a time: the count of finite values,
 /// their smallest and largest, the counts below each quantile's bracket, and the values inside
-/// each bracket. Folds of disjoint sets of trials with the same brackets merge exactly.
+/// each bracket. Folds of disjoint sets of trials with the same brackets finish together exactly
+/// ([`finish_columns`]).
 #[derive(Debug, Clone, PartialEq)]
 struct ColumnFold {
     /// Whether the columns are bracketed; if not, `inside_lo` keeps every finite value.
@@ -1608,55 +1643,65 @@ impl ColumnFold {
         }
     }
 
-    /// Merges a fold of other trials with the same brackets.
-    fn merge(&mut self, other: ColumnFold) {
-        for k in 0..self.finite.len() {
-            self.finite[k] += other.finite[k];
-            self.min[k] = self.min[k].min(other.min[k]);
-            self.max[k] = self.max[k].max(other.max[k]);
-            self.below_lo[k] += other.below_lo[k];
-            self.below_hi[k] += other.below_hi[k];
-        }
-        for (mine, theirs) in self.inside_lo.iter_mut().zip(other.inside_lo) {
-            mine.extend(theirs);
-        }
-        for (mine, theirs) in self.inside_hi.iter_mut().zip(other.inside_hi) {
-            mine.extend(theirs);
-        }
-    }
-
     /// Writes the fold into `env` (min and max joined with what it holds; the quantiles where a
     /// column has finite values) and returns the columns whose brackets missed their ranks, which
     /// the caller must select whole with [`percentile_pair_by_selection`].
-    fn finish(mut self, lo: f64, hi: f64, env: &mut Envelope) -> Vec<usize> {
-        let mut missed = Vec::new();
-        for k in 0..self.finite.len() {
-            env.min[k] = env.min[k].min(self.min[k]);
-            env.max[k] = env.max[k].max(self.max[k]);
-            let m = self.finite[k] as usize;
-            if m == 0 {
-                continue;
-            }
-            let found = if self.bracketed {
-                rank_in_bracket(&mut self.inside_lo[k], self.below_lo[k] as usize, m, lo).zip(rank_in_bracket(
-                    &mut self.inside_hi[k],
-                    self.below_hi[k] as usize,
-                    m,
-                    hi,
-                ))
-            } else {
-                Some(percentile_pair_by_selection(&mut self.inside_lo[k], lo, hi))
-            };
-            match found {
-                Some((low, high)) => {
-                    env.low[k] = low;
-                    env.high[k] = high;
-                }
-                None => missed.push(k),
-            }
-        }
-        missed
+    fn finish(self, lo: f64, hi: f64, env: &mut Envelope) -> Vec<usize> {
+        finish_columns(&[&self], 0..self.finite.len(), lo, hi, env)
     }
+}
+
+/// Finishes the columns `range` of folds of disjoint sets of trials, all made with the same
+/// brackets, as if they were one fold: writes into `env` (which holds that range alone) the min
+/// and max joined with what it holds and, where a column has finite values, the quantiles; and
+/// returns the columns (as indices into the folds) whose brackets missed their ranks, which the
+/// caller must select whole with [`percentile_pair_by_selection`].
+fn finish_columns(folds: &[&ColumnFold], range: Range<usize>, lo: f64, hi: f64, env: &mut Envelope) -> Vec<usize> {
+    let Some(first) = folds.first() else {
+        return Vec::new();
+    };
+    // A column's kept values from every fold, gathered in fold order (the selections below do
+    // not depend on the values' order).
+    fn gather<'a>(scratch: &'a mut Vec<f64>, parts: impl Iterator<Item = &'a [f64]>) -> &'a mut [f64] {
+        scratch.clear();
+        for part in parts {
+            scratch.extend_from_slice(part);
+        }
+        scratch
+    }
+    let (mut inside_lo, mut inside_hi) = (Vec::new(), Vec::new());
+    let mut missed = Vec::new();
+    for (at, k) in range.enumerate() {
+        let sum = |count: fn(&ColumnFold) -> &[f64]| folds.iter().map(|f| count(f)[k]).sum::<f64>() as usize;
+        for fold in folds {
+            env.min[at] = env.min[at].min(fold.min[k]);
+            env.max[at] = env.max[at].max(fold.max[k]);
+        }
+        let m = sum(|f| &f.finite);
+        if m == 0 {
+            continue;
+        }
+        let kept_lo = gather(&mut inside_lo, folds.iter().map(|f| &f.inside_lo[k][..]));
+        let found = if first.bracketed {
+            let kept_hi = gather(&mut inside_hi, folds.iter().map(|f| &f.inside_hi[k][..]));
+            rank_in_bracket(kept_lo, sum(|f| &f.below_lo), m, lo).zip(rank_in_bracket(
+                kept_hi,
+                sum(|f| &f.below_hi),
+                m,
+                hi,
+            ))
+        } else {
+            Some(percentile_pair_by_selection(kept_lo, lo, hi))
+        };
+        match found {
+            Some((low, high)) => {
+                env.low[at] = low;
+                env.high[at] = high;
+            }
+            None => missed.push(k),
+        }
+    }
+    missed
 }
 
 /// Folds the trials' values of one quantity at the frequencies `range` into `env` (which holds
@@ -1757,6 +1802,22 @@ fn summary(nominal: f64, values: &mut [f64], corners: &[f64], missing: usize, lo
     Spread { nominal, mean, std_dev, min, max, low, high, missing }
 }
 
+/// The largest finite value of `values` (−∞ where none is): four running maxima, so that the
+/// pass is not one long chain of dependent comparisons. The largest value is the same whichever
+/// way the comparisons are grouped.
+fn finite_peak(values: &[f64]) -> f64 {
+    let mut peaks = [f64::NEG_INFINITY; 4];
+    let keep = |peak: f64, v: f64| if v.is_finite() && v > peak { v } else { peak };
+    let mut blocks = values.chunks_exact(4);
+    for block in &mut blocks {
+        for (peak, &v) in peaks.iter_mut().zip(block) {
+            *peak = keep(*peak, v);
+        }
+    }
+    let tail = blocks.remainder().iter().fold(f64::NEG_INFINITY, |peak, &v| keep(peak, v));
+    peaks.into_iter().fold(tail, f64::max)
+}
+
 /// SplitMix64's output function (Steele, Lea & Flood, "Fast splittable pseudorandom number
 /// generators", OOPSLA 2014; constants as published there).
 fn splitmix64(x: u64) -> u64 {
@@ -1832,9 +1893,73 @@ mod tests {
             assert_eq!(whole, kept, "{trials} trials in one part");
             let cut = trials / 3;
             let parts = vec![plan.run_folded(&fold, cut..trials), plan.run_folded(&fold, 0..cut)];
-            assert_eq!(plan.summarize_folded(parts, Some(&corners)), kept, "{trials} trials in two parts");
+            assert_eq!(plan.summarize_folded(parts.clone(), Some(&corners)), kept, "{trials} trials in two parts");
+            // The summary's columns cut into three and seven jobs, and the brackets' sample too.
+            for width in [3, 7] {
+                let cut_fold = plan.fold_plan_with(&Cut(width));
+                assert_eq!(cut_fold, fold, "the sample cut into {width} jobs");
+                let summary = plan.summarize_folded_with(parts.clone(), Some(&corners), &Cut(width));
+                assert_eq!(summary, kept, "{trials} trials, the columns in {width} jobs");
+            }
             assert_eq!(plan.summarize_with(&[plan.run_trials(0..trials), corners], &Sequential), kept);
         }
+    }
+
+    /// Runs the jobs in turn but asks for `0` of them, as a machine with that many threads would.
+    struct Cut(usize);
+
+    impl Parallel for Cut {
+        fn width(&self) -> usize {
+            self.0
+        }
+
+        fn map<T: Send>(&self, jobs: usize, job: &(dyn Fn(usize) -> T + Sync)) -> Vec<T> {
+            (0..jobs).map(job).collect()
+        }
+    }
+
+    #[test]
+    fn corners_are_found_alike_with_and_without_gaps_in_the_response() {
+        // A trial's −3 dB corner comes from the two solved points around the crossing: a point
+        // that failed to solve (NaN) elsewhere in the response must not move it, while the
+        // all-finite path (blocks of eight tested at once) and the general path must agree. The
+        // crossing is checked against the closed form of a first-order RC, fc = 1/(2πRC).
+        let (circuit, probe) = rc(1e3, 100e-9);
+        let plan =
+            TolerancePlan::new(&circuit, &probe, &grid(10.0, 1e5, 61), &options(10, Distribution::Uniform)).unwrap();
+        let fc = 1.0 / (2.0 * PI * 1e3 * 100e-9);
+        let response = plan.evaluate(&plan.trial_multipliers(3));
+        let found = plan.corners_of(&response);
+        let m = plan.trial_multipliers(3);
+        let values: Vec<f64> = plan.parts().iter().zip(&m).map(|(p, m)| p.nominal * m).collect();
+        // The reference is the response's low end (10 Hz, a little under 0 dB), so the level
+        // crossed is 10·log10(1/(1 + (f/fc)²)) = g(10 Hz) − 10·log10 2: f = fc·√(10^(−level/10) − 1).
+        let trial_fc = 1.0 / (2.0 * PI * values.iter().product::<f64>());
+        let level = response.gain_db[0] - HALF_POWER_DB;
+        let expected = trial_fc * (10f64.powf(-level / 10.0) - 1.0).sqrt();
+        assert!((found[0] / expected - 1.0).abs() < 1e-6, "{} against {expected}", found[0]);
+        assert!((found[0] / fc - 1.0).abs() < 0.2);
+        let crossing = (0..60)
+            .find(|&k| (response.gain_db[k] + HALF_POWER_DB) * (response.gain_db[k + 1] + HALF_POWER_DB) < 0.0)
+            .unwrap();
+        for hole in [1, 5, crossing + 3, 59] {
+            let mut gapped = response.clone();
+            gapped.gain_db[hole] = f64::NAN;
+            assert_eq!(plan.corners_of(&gapped), found, "a gap at point {hole}");
+        }
+        let mut empty = response.clone();
+        empty.gain_db.iter_mut().for_each(|g| *g = f64::NAN);
+        assert!(plan.corners_of(&empty)[0].is_nan());
+    }
+
+    #[test]
+    fn the_finite_peak_skips_gaps_and_infinities() {
+        let values = [1.0, f64::NAN, 7.5, f64::INFINITY, -3.0, 7.25, f64::NEG_INFINITY, 2.0, 6.0];
+        for n in 0..=values.len() {
+            let naive = values[..n].iter().copied().filter(|v| v.is_finite()).fold(f64::NEG_INFINITY, f64::max);
+            assert_eq!(finite_peak(&values[..n]), naive, "the first {n} values");
+        }
+        assert_eq!(finite_peak(&[f64::NAN; 5]), f64::NEG_INFINITY);
     }
 
     #[test]
