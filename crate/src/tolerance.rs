@@ -737,9 +737,7 @@ impl TolerancePlan {
         let corners: Vec<&TrialResponse> = batches.iter().filter(|b| !is_trial(b)).flat_map(|b| &b.responses).collect();
         let (lo_q, hi_q) = self.band();
         let mut envelopes = self.start_envelopes(&corners);
-        let n = self.f_hz.len();
-        let jobs = parallel.width().clamp(1, n.max(1));
-        let range = |j: usize| j * n / jobs..(j + 1) * n / jobs;
+        let (jobs, range) = cut(self.f_hz.len(), parallel.width());
         let parts = parallel.map(jobs, &|j| {
             std::array::from_fn::<Envelope, 3, _>(|q| {
                 let mut part = envelopes[q].part(range(j));
@@ -859,9 +857,7 @@ impl TolerancePlan {
         if !columns.is_empty() {
             // The frequencies cut into one job per thread, each finishing its columns of all
             // three quantities from every part's fold (nothing is merged first).
-            let n = self.f_hz.len();
-            let jobs = parallel.width().clamp(1, n.max(1));
-            let range = |j: usize| j * n / jobs..(j + 1) * n / jobs;
+            let (jobs, range) = cut(self.f_hz.len(), parallel.width());
             let parts = parallel.map(jobs, &|j| {
                 std::array::from_fn::<_, 3, _>(|q| {
                     let mut part = envelopes[q].part(range(j));
@@ -1800,6 +1796,13 @@ fn summary(nominal: f64, values: &mut [f64], corners: &[f64], missing: usize, lo
     let max = all.fold(nominal, f64::max);
     let (low, high) = if count > 0 { (percentile(values, lo), percentile(values, hi)) } else { (nominal, nominal) };
     Spread { nominal, mean, std_dev, min, max, low, high, missing }
+}
+
+/// The columns `0..n` cut into at most `width` jobs of near-equal size (at least one): the
+/// count of jobs, and job j's columns.
+fn cut(n: usize, width: usize) -> (usize, impl Fn(usize) -> Range<usize>) {
+    let jobs = width.clamp(1, n.max(1));
+    (jobs, move |j| j * n / jobs..(j + 1) * n / jobs)
 }
 
 /// The largest finite value of `values` (−∞ where none is): four running maxima, so that the
