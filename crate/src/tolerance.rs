@@ -1199,31 +1199,8 @@ impl TolerancePlan {
             let (y0, y1) = (gain[i] - level, gain[j] - level);
             (y0 * y1 < 0.0) | ((y0 == 0.0) & (y1 != 0.0))
         };
-        let mut pairs: Vec<(usize, usize)> = Vec::new();
-        if gain[first..=last].iter().fold(true, |all, g| all & g.is_finite()) {
-            // Every point is finite, so neighbours pair up; blocks of eight are tested at once
-            // (branch-free, as vector instructions) and only a block with a crossing is walked.
-            let mut j = first + 1;
-            while j + 8 <= last + 1 {
-                if (j..j + 8).fold(false, |any, j| any | crosses(j - 1, j)) {
-                    pairs.extend((j..j + 8).filter(|&j| crosses(j - 1, j)).map(|j| (j - 1, j)));
-                }
-                j += 8;
-            }
-            pairs.extend((j..=last).filter(|&j| crosses(j - 1, j)).map(|j| (j - 1, j)));
-        } else {
-            let mut previous = first;
-            for (j, g) in gain.iter().enumerate().take(last + 1).skip(first + 1) {
-                if g.is_finite() {
-                    let i = std::mem::replace(&mut previous, j);
-                    if crosses(i, j) {
-                        pairs.push((i, j));
-                    }
-                }
-            }
-        }
-        let mut found: Vec<(f64, Edge)> = Vec::with_capacity(pairs.len());
-        for (i, j) in pairs {
+        // The crossing's frequency between points i and j, and whether the gain falls there.
+        let root = |i: usize, j: usize| {
             let (y0, y1) = (gain[i] - level, gain[j] - level);
             let (u0, u1) = (self.log_f[i], self.log_f[j]);
             let h = u1 - u0;
@@ -1264,7 +1241,30 @@ impl TolerancePlan {
                 }
             }
             let edge = if y1 < y0 { Edge::Falling } else { Edge::Rising };
-            found.push(((u0 + t * h).exp(), edge));
+            ((u0 + t * h).exp(), edge)
+        };
+        let mut found: Vec<(f64, Edge)> = Vec::new();
+        if gain[first..=last].iter().fold(true, |all, g| all & g.is_finite()) {
+            // Every point is finite, so neighbours pair up; blocks of eight are tested at once
+            // (branch-free, as vector instructions) and only a block with a crossing is walked.
+            let mut j = first + 1;
+            while j + 8 <= last + 1 {
+                if (j..j + 8).fold(false, |any, j| any | crosses(j - 1, j)) {
+                    found.extend((j..j + 8).filter(|&j| crosses(j - 1, j)).map(|j| root(j - 1, j)));
+                }
+                j += 8;
+            }
+            found.extend((j..=last).filter(|&j| crosses(j - 1, j)).map(|j| root(j - 1, j)));
+        } else {
+            let mut previous = first;
+            for (j, g) in gain.iter().enumerate().take(last + 1).skip(first + 1) {
+                if g.is_finite() {
+                    let i = std::mem::replace(&mut previous, j);
+                    if crosses(i, j) {
+                        found.push(root(i, j));
+                    }
+                }
+            }
         }
         self.corners
             .iter()
@@ -1522,11 +1522,10 @@ fn brackets_from<'a>(n: usize, lo: f64, hi: f64, sample: impl Fn(usize) -> &'a [
         };
         let [a, b] = ends(lo);
         let [c, d] = ends(hi);
-        let mut ranks: Vec<usize> = [a, b, c, d].into_iter().flatten().collect();
+        let mut ranks = [a, b, c, d];
         ranks.sort_unstable();
-        ranks.dedup();
         let mut from = 0;
-        for &rank in &ranks {
+        for rank in ranks.into_iter().flatten() {
             finite[from..].select_nth_unstable_by(rank - from, f64::total_cmp);
             from = rank;
         }
@@ -1908,7 +1907,8 @@ mod tests {
         }
     }
 
-    /// Runs the jobs in turn but asks for `0` of them, as a machine with that many threads would.
+    /// Runs the jobs in turn, but gives its width as a machine with that many threads would, so
+    /// that the work is cut as it would be there.
     struct Cut(usize);
 
     impl Parallel for Cut {
