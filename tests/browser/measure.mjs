@@ -6,8 +6,9 @@
 //      the marks the bootstrap (web/build/src/bootstrap.js) and web/app.js set: the HTML read and
 //      parsed up to the module ("bw:boot-start"), base64 ("bw:wasm-decoded"), gunzip and
 //      WebAssembly.compileStreaming, which overlap ("bw:wasm-compiled"), initSync
-//      ("bw:wasm-started"), wiring and opening the design ("bw:opened"), the first sweep and draw
-//      with the page's first layout (to "bw:first-plot"); "bw:started" is when the work deferred
+//      ("bw:wasm-started"), wiring and opening the design ("bw:opened"), the first sweep
+//      ("bw:first-swept"), the page's first style and layout ("bw:first-laid-out"), and the first
+//      draw (to "bw:first-plot"); "bw:started" is when the work deferred
 //      until after the first plot (the cards below it) is done;
 //   3. the time from a keystroke in a part value to the redrawn plots at 500 sweep points: the
 //      measure "bw:keystroke-to-plot" that web/app.js records from the key event's timestamp to
@@ -47,7 +48,9 @@ async function firstPlotMs(app) {
         "gunzip and compile": at("bw:wasm-compiled") - at("bw:wasm-decoded"),
         initSync: at("bw:wasm-started") - at("bw:wasm-compiled"),
         "wiring and opening the design": at("bw:opened") - at("bw:wasm-started"),
-        "first sweep, layout and draw": at("bw:first-plot") - at("bw:opened"),
+        "first sweep": at("bw:first-swept") - at("bw:opened"),
+        "first layout": at("bw:first-laid-out") - at("bw:first-swept"),
+        "first draw": at("bw:first-plot") - at("bw:first-laid-out"),
         "deferred work done at": at("bw:started"),
       },
     };

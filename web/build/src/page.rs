@@ -7,7 +7,9 @@
 //!
 //! - `<!-- bandwright:style -->` (exactly once): becomes `<style>` with the page CSS.
 //! - `<!-- bandwright:script -->` (exactly once): becomes the browser-floor check (a classic
-//!   script) and one module script holding the glue, the bootstrap and the page module.
+//!   script), a non-executing `<script type="text/plain" id="bandwright-wasm">` holding the
+//!   packed wasm's text, and one module script holding the glue, the bootstrap and the page
+//!   module.
 //! - When a worker script is given (web/worker.js), the script placeholder also gets a
 //!   non-executing `<script type="text/plain" id="bandwright-worker-source">` holding it. The
 //!   page builds a module worker from a Blob of the glue (which it reads back from its own module
@@ -53,6 +55,8 @@ pub struct PageSources<'a> {
 
 /// The id of the element that holds the worker's source text.
 pub const WORKER_SOURCE_ID: &str = "bandwright-worker-source";
+/// The id of the non-running element (`type="text/plain"`) that holds the packed wasm's text.
+pub const WASM_SOURCE_ID: &str = "bandwright-wasm";
 /// The line before the glue in the module script (the page reads the glue back between the two).
 pub const GLUE_START: &str = "// ---- wasm-bindgen glue (bandwright build) ----";
 /// The line after the glue in the module script.
@@ -194,7 +198,7 @@ pub fn assemble(sources: &PageSources) -> Result<Page, PageError> {
 
     let bootstrap = BOOTSTRAP
         .replace("BANDWRIGHT_EXPORTS", &format!("{{ {} }}", exports.join(", ")))
-        .replace("BANDWRIGHT_WASM_GZ_BASE64", &format!("\"{}\"", sources.wasm_gz_base64));
+        .replace("BANDWRIGHT_WASM_ELEMENT_ID", &format!("\"{WASM_SOURCE_ID}\""));
     let module = format!(
         "\n{GLUE_START}\n{glue}\n{GLUE_END}\n{bootstrap}\nif (bandwright !== null) {{\n// ---- web/app.js ----\n{app}\n}}\n",
         glue = glue.trim_end(),
@@ -220,7 +224,11 @@ pub fn assemble(sources: &PageSources) -> Result<Page, PageError> {
         }
         None => String::new(),
     };
-    let scripts = format!("{worker_element}<script>{check}</script>\n<script type=\"module\">{module}</script>");
+    // The packed wasm is an element's text, not a literal in the module: V8 then does not scan it.
+    let wasm_element =
+        format!("<script type=\"text/plain\" id=\"{WASM_SOURCE_ID}\">{}</script>\n", sources.wasm_gz_base64);
+    let scripts =
+        format!("{worker_element}<script>{check}</script>\n{wasm_element}<script type=\"module\">{module}</script>");
     let script_hashes = format!("{} {}", csp_hash(&check), csp_hash(&module));
     let html = template
         .replacen(STYLE, &format!("<style>{style}</style>"), 1)
@@ -440,7 +448,7 @@ mod tests {
     // The wasm text is most of the file: the bootstrap must name it exactly once.
     #[test]
     fn the_bootstrap_names_the_wasm_text_once() {
-        assert_eq!(BOOTSTRAP.matches("BANDWRIGHT_WASM_GZ_BASE64").count(), 1);
+        assert_eq!(BOOTSTRAP.matches("BANDWRIGHT_WASM_ELEMENT_ID").count(), 1);
         assert_eq!(BOOTSTRAP.matches("BANDWRIGHT_EXPORTS").count(), 1);
     }
 
@@ -468,7 +476,12 @@ mod tests {
         let check = element(&page.html, "<script>", "</script>");
         let style = element(&page.html, "<style>", "</style>");
         assert!(module.contains("Object.freeze({ version, Session })"));
-        assert!(module.contains("const base64 = \"H4sIAAAA+/=\";"));
+        assert!(module.contains("document.getElementById(\"bandwright-wasm\")"));
+        assert!(!module.contains("H4sIAAAA+/="), "the packed wasm is not in the module");
+        assert_eq!(
+            element(&page.html, "<script type=\"text/plain\" id=\"bandwright-wasm\">", "</script>"),
+            "H4sIAAAA+/="
+        );
         assert!(module.contains("if (bandwright !== null) {\n// ---- web/app.js ----\ndocument.title"));
         assert!(module.starts_with(&format!("\n{GLUE_START}\nlet wasm;")));
         assert!(!module.contains('\r'));
