@@ -1,8 +1,9 @@
 // ---- bandwright bootstrap (inserted by bandwright-build after the wasm-bindgen glue) ----
-// Unpacks the inline wasm (gzip, base64, the text of the element the build names) with DecompressionStream, compiles it as it unpacks
-// (WebAssembly.compileStreaming), starts it through the glue's `initSync`, and hands the glue's
-// exports to the page code as the frozen object `bandwright` (also `globalThis.bandwright`, for
-// tests and the console). Nothing is fetched.
+// Unpacks the inline wasm (gzip, base64, the text of the element the build names) with
+// DecompressionStream, compiles it as it unpacks (WebAssembly.compileStreaming), starts it
+// through the glue's `initSync`, and hands the glue's exports to the page code as the frozen
+// object `bandwright` (also `globalThis.bandwright`, for tests and the console). Nothing is
+// fetched.
 // Performance marks time each step for tests/browser/measure.mjs: bw:boot-start, bw:wasm-decoded
 // (base64), bw:wasm-compiled (gunzip and compile, overlapped), bw:wasm-started (initSync).
 // When the feature check before this module found something missing, `bandwright` is null and

@@ -445,9 +445,9 @@ mod tests {
         &html[start..end]
     }
 
-    // The wasm text is most of the file: the bootstrap must name it exactly once.
+    // Each placeholder the build fills in must stand exactly once in the bootstrap.
     #[test]
-    fn the_bootstrap_names_the_wasm_text_once() {
+    fn the_bootstrap_names_the_wasm_element_and_the_exports_once() {
         assert_eq!(BOOTSTRAP.matches("BANDWRIGHT_WASM_ELEMENT_ID").count(), 1);
         assert_eq!(BOOTSTRAP.matches("BANDWRIGHT_EXPORTS").count(), 1);
     }
