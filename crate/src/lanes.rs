@@ -16,7 +16,8 @@
 //!   |u| ≤ tan(π/8) with atan t = π/4 + atan((t − 1)/(t + 1)) above tan(π/8), and uses the odd
 //!   polynomial of fdlibm's `s_atan.c` (valid for |u| < 7/16; coefficients aT[0…10] from memory,
 //!   checked against their published bit patterns) before putting the octant back. The tests bound
-//!   the error against `f64::atan2`.
+//!   the error against `f64::atan2`. [`Atan2Reduction`] splits it at the quotient u, for a caller
+//!   that divides once for several quotients.
 //!
 //! Lanes whose input is outside the ranges these handle (zero, subnormal, infinite or NaN for
 //! [`ln`]; both arguments zero or any non-finite for [`atan2`]) are computed by the scalar `std`
@@ -221,40 +222,89 @@ const TAN_PI_8: f64 = 0.414_213_562_373_095_048_8;
 /// atan2(y, x) of each lane in radians, in (−π, π] (see the module doc for the method).
 #[inline(always)]
 pub fn atan2(y: Lane, x: Lane) -> Lane {
-    let mut out = [0.0; LANES];
-    let mut odd = false;
-    for k in 0..LANES {
-        let (ax, ay) = (x[k].abs(), y[k].abs());
-        let swap = ay > ax;
-        let (num, den) = if swap { (ax, ay) } else { (ay, ax) };
-        odd |= !(den > 0.0 && den <= f64::MAX);
-        let high = num > TAN_PI_8 * den;
-        // Above tan(π/8): u = (t − 1)/(t + 1) with t = num/den, formed without rounding t first.
-        let u = if high { (num - den) / (num + den) } else { num / den };
-        let (base_hi, base_lo) = if high { (PI_4_HI, PI_4_LO) } else { (0.0, 0.0) };
-        let z = u * u;
-        let w = z * z;
-        let s1 = z * (AT[0] + w * (AT[2] + w * (AT[4] + w * (AT[6] + w * (AT[8] + w * AT[10])))));
-        let s2 = w * (AT[1] + w * (AT[3] + w * (AT[5] + w * (AT[7] + w * AT[9]))));
-        // fdlibm's form: base + atan u with the base split in two parts.
-        let mut r = base_hi - ((u * (s1 + s2) - base_lo) - u);
-        if swap {
-            r = PI_2_HI - (r - PI_2_LO);
-        }
-        if x[k] < 0.0 {
-            r = PI_HI - (r - PI_LO);
-        }
-        out[k] = if y[k].is_sign_negative() { -r } else { r };
-    }
-    if odd {
+    let reduced = Atan2Reduction::new(y, x);
+    let u = map(|k| reduced.numerator[k] / reduced.denominator[k]);
+    reduced.finish(u)
+}
+
+/// The first half of [`atan2`]: the argument reduced to a quotient u = numerator/denominator
+/// with |u| ≤ tan(π/8), which the caller divides (perhaps sharing one division with other
+/// quotients), then [`Atan2Reduction::finish`] turns into the angle.
+#[derive(Debug, Clone, Copy)]
+pub struct Atan2Reduction {
+    y: Lane,
+    x: Lane,
+    /// The quotient's two parts.
+    pub numerator: Lane,
+    /// Positive where the lane is ordinary (not `odd`).
+    pub denominator: Lane,
+    swap: [bool; LANES],
+    high: [bool; LANES],
+    /// Whether any lane is outside the polynomial's inputs (both arguments zero, or any
+    /// non-finite); those lanes are computed by `f64::atan2` in `finish`.
+    odd: bool,
+}
+
+impl Atan2Reduction {
+    /// Reduces atan2(y, x) lane by lane.
+    #[inline(always)]
+    pub fn new(y: Lane, x: Lane) -> Atan2Reduction {
+        let mut r = Atan2Reduction {
+            y,
+            x,
+            numerator: [0.0; LANES],
+            denominator: [1.0; LANES],
+            swap: [false; LANES],
+            high: [false; LANES],
+            odd: false,
+        };
         for k in 0..LANES {
-            let den = x[k].abs().max(y[k].abs());
-            if !(den > 0.0 && den <= f64::MAX) || x[k].is_nan() || y[k].is_nan() {
-                out[k] = y[k].atan2(x[k]);
+            let (ax, ay) = (x[k].abs(), y[k].abs());
+            let swap = ay > ax;
+            let (num, den) = if swap { (ax, ay) } else { (ay, ax) };
+            r.odd |= !(den > 0.0 && den <= f64::MAX);
+            let high = num > TAN_PI_8 * den;
+            // Above tan(π/8): u = (t − 1)/(t + 1) with t = num/den, formed without rounding t first.
+            r.numerator[k] = if high { num - den } else { num };
+            r.denominator[k] = if high { num + den } else { den };
+            r.swap[k] = swap;
+            r.high[k] = high;
+        }
+        r
+    }
+
+    /// The angles from the quotients u = numerator/denominator.
+    #[inline(always)]
+    pub fn finish(&self, u: Lane) -> Lane {
+        let (x, y) = (self.x, self.y);
+        let mut out = [0.0; LANES];
+        for k in 0..LANES {
+            let u = u[k];
+            let (base_hi, base_lo) = if self.high[k] { (PI_4_HI, PI_4_LO) } else { (0.0, 0.0) };
+            let z = u * u;
+            let w = z * z;
+            let s1 = z * (AT[0] + w * (AT[2] + w * (AT[4] + w * (AT[6] + w * (AT[8] + w * AT[10])))));
+            let s2 = w * (AT[1] + w * (AT[3] + w * (AT[5] + w * (AT[7] + w * AT[9]))));
+            // fdlibm's form: base + atan u with the base split in two parts.
+            let mut r = base_hi - ((u * (s1 + s2) - base_lo) - u);
+            if self.swap[k] {
+                r = PI_2_HI - (r - PI_2_LO);
+            }
+            if x[k] < 0.0 {
+                r = PI_HI - (r - PI_LO);
+            }
+            out[k] = if y[k].is_sign_negative() { -r } else { r };
+        }
+        if self.odd {
+            for k in 0..LANES {
+                let den = x[k].abs().max(y[k].abs());
+                if !(den > 0.0 && den <= f64::MAX) || x[k].is_nan() || y[k].is_nan() {
+                    out[k] = y[k].atan2(x[k]);
+                }
             }
         }
+        out
     }
-    out
 }
 
 #[cfg(test)]

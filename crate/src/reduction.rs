@@ -253,6 +253,16 @@ impl Reduction {
     /// If `values` is shorter than the circuit's element list.
     #[inline(always)]
     pub fn solve_lanes(&self, omega: &Lane, values: &[f64]) -> (LaneComplex, LaneComplex) {
+        let (v_out, emf) = self.solve_lanes_parts(omega, values);
+        let h = v_out.mul(emf.inv());
+        (h.v, h.d)
+    }
+
+    /// The two parts of [`Reduction::solve_lanes`]'s H = V_out/E with their derivatives d/dω:
+    /// the output voltage V_out and the source EMF E that drives it, for a unit voltage at the
+    /// load end of the ladder. For callers that divide once for several quotients.
+    #[inline(always)]
+    pub fn solve_lanes_parts(&self, omega: &Lane, values: &[f64]) -> (LaneDual, LaneDual) {
         let each = |f: &dyn Fn(usize) -> f64| -> Lane { std::array::from_fn(f) };
         let mut v = LaneDual::constant(LaneComplex::splat(1.0, 0.0));
         let mut i = LaneDual::constant(LaneComplex::ZERO);
@@ -300,8 +310,7 @@ impl Reduction {
             }
         }
         let emf = v.add(i.scale([self.source_ohms; LANES]));
-        let h = v_out.mul(emf.inv());
-        (h.v, h.d)
+        (v_out, emf)
     }
 
     fn impedance_lanes(&self, branch: &Branch, omega: &Lane, values: &[f64]) -> LaneDual {
