@@ -1200,8 +1200,11 @@ impl TolerancePlan {
                 // finite.
                 let at = |z: &LaneComplex| Complex64::new(z.re[j], z.im[j]);
                 let (vv, vd, ev, ed) = (at(&v.v), at(&v.d), at(&e.v), at(&e.d));
-                let h = vv / ev;
-                let dh = (vd * ev - vv * ed) / (ev * ev);
+                // 1/E = conj E/|E|² and (1/E)′ = −E′/E², not a division by E² (whose parts
+                // overflow from |E| ≈ 1e77, well inside the range this lane is here for).
+                let inv = Complex64::new(ev.re, -ev.im) * (1.0 / ev.norm_sqr());
+                let h = vv * inv;
+                let dh = vd * inv - vv * ed * inv * inv;
                 let solved = [h.re, h.im, dh.re, dh.im].iter().all(|x| x.is_finite());
                 if let Some((h, dh)) = if solved { Some((h, dh)) } else { fallback(omega[j]) } {
                     let (gain, phase, ratio) = scalar(h, dh);
@@ -1685,8 +1688,9 @@ impl ColumnFold {
     /// where given, expecting about `expected` trials.
     fn new(n: usize, brackets: Option<&[[f64; 4]]>, lo: f64, hi: f64, expected: usize) -> ColumnFold {
         let bracketed = brackets.is_some();
-        // Unbracketed, the low side keeps every finite value and the high side none (NaN ends
-        // reject every value).
+        // Unbracketed, the low side keeps every finite value and the high side none: its ends
+        // [+∞, −∞] hold no value (and its count below, unused, counts every finite one). Not
+        // NaN, so that a fold still equals its own copy.
         let end = |i: usize, unbounded: f64| match brackets {
             Some(b) => b.iter().map(|b| b[i]).collect(),
             None => vec![unbounded; n],
@@ -1697,8 +1701,8 @@ impl ColumnFold {
             quantiles: [lo, hi],
             a_lo: end(0, f64::NEG_INFINITY),
             b_lo: end(1, f64::INFINITY),
-            a_hi: end(2, f64::NAN),
-            b_hi: end(3, f64::NAN),
+            a_hi: end(2, f64::INFINITY),
+            b_hi: end(3, f64::NEG_INFINITY),
             finite: vec![0.0; n],
             min: vec![f64::INFINITY; n],
             max: vec![f64::NEG_INFINITY; n],
@@ -2325,6 +2329,57 @@ mod tests {
                 }
             }
         }
+    }
+
+    #[test]
+    fn a_deep_stopband_trial_keeps_its_exact_delay() {
+        // A 9th-order LC ladder between 1 Ω ends (C = 1.5 F, L = 1.5 H, our own test circuit)
+        // swept to 24.6 GHz, about −2046 dB at the top for the nominal; with every L and C 30 %
+        // high the top is near −2066 dB, where |V|²·|E|²·q overflows and the lane takes the
+        // one-at-a-time path. Gain and delay must still match the engine there (a division by
+        // E² would overflow and give a delay of 0).
+        let mut b = CircuitBuilder::new();
+        b.voltage_source("V1", "n1", "0", 1.0, 1.0);
+        let nodes = ["n1", "n2", "n3", "n4", "n5"];
+        for (i, node) in nodes.iter().enumerate() {
+            b.capacitor(&format!("C{i}"), node, "0", 1.5);
+            if i + 1 < nodes.len() {
+                b.inductor(&format!("L{i}"), node, nodes[i + 1], 1.5);
+            }
+        }
+        b.resistor("RL", "n5", "0", 1.0);
+        let circuit = b.build().unwrap();
+        let probe = Probe::new(&circuit, "V1", "n5", "0").unwrap();
+        let g = grid(1e-2, 2.4602398e10, 64);
+        let plan = TolerancePlan::new(&circuit, &probe, &g, &options(5, Distribution::Uniform)).unwrap();
+        assert!(plan.reduction.is_some(), "the ladder takes the reduction path");
+        let m: Vec<f64> = plan.parts().iter().map(|p| if p.reference.starts_with('R') { 1.0 } else { 1.3 }).collect();
+        let fast = plan.evaluate(&m);
+        let mut system = AcSystem::new(&plan.circuit_with(&m), &probe);
+        let exact = sweep(&mut system, &g, Detail::Transfer);
+        let (gain, delay) = (exact.magnitude_db(), exact.group_delay_s());
+        let top = g.len() - 1;
+        assert!(gain[top].unwrap() < -2060.0, "the top point is deep enough: {:?}", gain[top]);
+        for k in 0..g.len() {
+            let (gk, dk) = (gain[k].unwrap(), delay[k].unwrap());
+            assert!(
+                (fast.gain_db[k] - gk).abs() < 1e-9 * gk.abs().max(1.0),
+                "gain at {k}: {} vs {gk}",
+                fast.gain_db[k]
+            );
+            assert!(
+                (fast.group_delay_s[k] - dk).abs() < 1e-7 * dk.abs(),
+                "delay at {k}: {} vs {dk}",
+                fast.group_delay_s[k]
+            );
+        }
+    }
+
+    #[test]
+    fn an_unbracketed_fold_equals_its_copy() {
+        let mut fold = ColumnFold::new(3, None, 0.05, 0.95, 10);
+        fold.add(&[1.0, f64::NAN, -2.0]);
+        assert_eq!(fold.clone(), fold);
     }
 
     #[test]
