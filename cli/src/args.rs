@@ -226,13 +226,16 @@ pub struct SpreadArgs {
     /// uniform (within ±tolerance) or normal (tolerance = 3σ).
     #[arg(long, value_name = "DIST", default_value = "uniform")]
     pub distribution: String,
-    /// Resistor tolerance in percent.
+    /// Resistor tolerance in percent, for resistors the design file gives none (a fitted design
+    /// gives each part its series' tolerance; --tol REF=PCT overrides either).
     #[arg(long, value_name = "PCT", default_value = "1", allow_hyphen_values = true)]
     pub tol_r: String,
-    /// Capacitor tolerance in percent.
+    /// Capacitor tolerance in percent, for capacitors the design file gives none (a fitted design
+    /// gives each part its series' tolerance; --tol REF=PCT overrides either).
     #[arg(long, value_name = "PCT", default_value = "5", allow_hyphen_values = true)]
     pub tol_c: String,
-    /// Inductor tolerance in percent.
+    /// Inductor tolerance in percent, for inductors the design file gives none (a fitted design
+    /// gives each part its series' tolerance; --tol REF=PCT overrides either).
     #[arg(long, value_name = "PCT", default_value = "10", allow_hyphen_values = true)]
     pub tol_l: String,
     /// One part's tolerance, replacing its kind's, e.g. --tol C2=1% (repeatable; 0 holds it fixed).
