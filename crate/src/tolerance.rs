@@ -61,7 +61,7 @@
 //! never starts a thread.
 
 use crate::circuit::{Circuit, ElementKind};
-use crate::lanes::{self, Lane, LaneComplex, LANES};
+use crate::lanes::{self, Lane, LANES};
 use crate::lu::Lu;
 use crate::measure::{measure, Edge, ReferenceKind, HALF_POWER_DB};
 use crate::mna::{AcSystem, Detail, Pencil, Probe};
@@ -873,7 +873,7 @@ impl TolerancePlan {
                 std::array::from_fn::<_, 3, _>(|q| {
                     let mut part = envelopes[q].part(range(j));
                     let folds: Vec<&ColumnFold> = columns.iter().map(|c| &c[q]).collect();
-                    let missed = finish_columns(&folds, range(j), lo, hi, &mut part);
+                    let missed = finish_columns(&folds, range(j), &mut part);
                     (part, missed)
                 })
             });
@@ -1183,6 +1183,8 @@ impl TolerancePlan {
                     .copy_from_slice(&std::array::from_fn::<f64, LANES, _>(|j| DB_PER_NEPER * omega[j] * ratio_re[j]));
                 continue;
             }
+            // H = V/E for the whole block, formed only if a lane needs it.
+            let mut quotient = None;
             for j in 0..LANES.min(n - first) {
                 if !valid(omega[j]) {
                     if let Some((h, dh)) = fallback(omega[j]) {
@@ -1196,15 +1198,11 @@ impl TolerancePlan {
                     continue;
                 }
                 // A lane the shared division could not take (|V|²·|E|² out of range, or V = 0):
-                // H and H′ from V and E one at a time, and the MNA pencil where those are not
-                // finite.
-                let at = |z: &LaneComplex| Complex64::new(z.re[j], z.im[j]);
-                let (vv, vd, ev, ed) = (at(&v.v), at(&v.d), at(&e.v), at(&e.d));
-                // 1/E = conj E/|E|² and (1/E)′ = −E′/E², not a division by E² (whose parts
-                // overflow from |E| ≈ 1e77, well inside the range this lane is here for).
-                let inv = Complex64::new(ev.re, -ev.im) * (1.0 / ev.norm_sqr());
-                let h = vv * inv;
-                let dh = vd * inv - vv * ed * inv * inv;
+                // H = V·(1/E) as `Reduction::solve_lanes` forms it (1/E = conj E/|E|², which
+                // holds for |E| up to about 1e154), and the MNA pencil where that is not finite.
+                let quotient = quotient.get_or_insert_with(|| v.mul(e.inv()));
+                let h = Complex64::new(quotient.v.re[j], quotient.v.im[j]);
+                let dh = Complex64::new(quotient.d.re[j], quotient.d.im[j]);
                 let solved = [h.re, h.im, dh.re, dh.im].iter().all(|x| x.is_finite());
                 if let Some((h, dh)) = if solved { Some((h, dh)) } else { fallback(omega[j]) } {
                     let (gain, phase, ratio) = scalar(h, dh);
@@ -1673,6 +1671,9 @@ struct ColumnFold {
     flags: Vec<u8>,
 }
 
+/// The most values a fold's kept-value list reserves at first ([`ColumnFold::new`]).
+const FOLD_RESERVE: usize = 1024;
+
 /// The fold's first narrowing, in trials; each later one comes at twice the count.
 const NARROW_FROM: usize = 512;
 
@@ -1695,7 +1696,10 @@ impl ColumnFold {
             Some(b) => b.iter().map(|b| b[i]).collect(),
             None => vec![unbounded; n],
         };
-        let guess = if bracketed { expected / 16 } else { expected };
+        // The kept values' first reservation: a few per cent of the trials once the brackets
+        // narrow, at most FOLD_RESERVE per list (the lists grow past it as needed), so that a
+        // large run does not reserve memory for values it will not keep.
+        let guess = if bracketed { expected / 16 } else { expected }.min(FOLD_RESERVE);
         ColumnFold {
             bracketed,
             quantiles: [lo, hi],
@@ -1792,8 +1796,8 @@ impl ColumnFold {
     /// Writes the fold into `env` (min and max joined with what it holds; the quantiles where a
     /// column has finite values) and returns the columns whose brackets missed their ranks, which
     /// the caller must select whole with [`percentile_pair_by_selection`].
-    fn finish(self, lo: f64, hi: f64, env: &mut Envelope) -> Vec<usize> {
-        finish_columns(&[&self], 0..self.finite.len(), lo, hi, env)
+    fn finish(self, env: &mut Envelope) -> Vec<usize> {
+        finish_columns(&[&self], 0..self.finite.len(), env)
     }
 }
 
@@ -1838,10 +1842,11 @@ fn narrow_bracket(a: &mut f64, b: &mut f64, below: &mut f64, inside: &mut Vec<f6
 /// the brackets' intersection [max a, min b]: a fold's values under max a are its count below
 /// plus its kept values under max a, which is exact because max a is inside every fold's bracket
 /// (and so is min b). An empty intersection is a miss.
-fn finish_columns(folds: &[&ColumnFold], range: Range<usize>, lo: f64, hi: f64, env: &mut Envelope) -> Vec<usize> {
+fn finish_columns(folds: &[&ColumnFold], range: Range<usize>, env: &mut Envelope) -> Vec<usize> {
     let Some(first) = folds.first() else {
         return Vec::new();
     };
+    let [lo, hi] = first.quantiles;
     // A column's kept values within [a, b] from every fold, gathered in fold order (the
     // selections below do not depend on the values' order), with the count of kept values
     // under a.
@@ -1942,7 +1947,7 @@ fn fold_trials(
     for r in trials {
         fold.add(within(pick, r, &range));
     }
-    for k in fold.finish(lo, hi, env) {
+    for k in fold.finish(env) {
         let mut column: Vec<f64> =
             trials.iter().map(|r| within(pick, r, &range)[k]).filter(|v| v.is_finite()).collect();
         let (low, high) = percentile_pair_by_selection(&mut column, lo, hi);
@@ -2444,11 +2449,7 @@ mod tests {
             let mut env =
                 Envelope { nominal: vec![0.0], min: vec![0.0], max: vec![0.0], low: vec![0.0], high: vec![0.0] };
             let refs: Vec<&ColumnFold> = folds.iter().collect();
-            assert!(
-                finish_columns(&refs, 0..1, lo, hi, &mut env).is_empty(),
-                "{} parts: a bracket missed",
-                parts.len()
-            );
+            assert!(finish_columns(&refs, 0..1, &mut env).is_empty(), "{} parts: a bracket missed", parts.len());
             assert_eq!((env.low[0], env.high[0]), expected, "{} parts", parts.len());
         }
     }
@@ -2607,7 +2608,7 @@ mod tests {
                 }
                 let mut env =
                     Envelope { nominal: vec![0.0], min: vec![0.0], max: vec![0.0], low: vec![0.0], high: vec![0.0] };
-                assert!(fold.finish(0.05, 0.95, &mut env).is_empty(), "count {count}: the bracket missed");
+                assert!(fold.finish(&mut env).is_empty(), "count {count}: the bracket missed");
             }
             for (lo, hi) in [(0.05, 0.95), (0.0, 1.0), (0.25, 0.75), (0.001, 0.999)] {
                 let start = vec![0.0; columns.len()];
